@@ -1,0 +1,120 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+
+	"github.com/spf13/pflag"
+	"github.com/wakekit/wakekit/piv"
+)
+
+// readFlags are the input flags every command that reads velocity files shares.
+type readFlags struct {
+	lengthUnit, velocityUnit string
+	pixelSize, pulseSep      float64
+	columns                  string
+	dt                       float64
+	axisymmetric             bool
+	axis                     float64
+	imageYDown               bool
+	maxNodes                 int
+}
+
+func addReadFlags(fs *pflag.FlagSet) *readFlags {
+	r := &readFlags{}
+	fs.StringVar(&r.lengthUnit, "length-unit", "", "unit of x and y where the header names none: m, mm, cm or px")
+	fs.StringVar(&r.velocityUnit, "velocity-unit", "", "unit of u and v where the header names none: m/s, mm/s, cm/s or px/frame")
+	fs.Float64Var(&r.pixelSize, "pixel-size", 0, "pixel size [m/px] for data in px")
+	fs.Float64Var(&r.pulseSep, "pulse-separation", 0, "laser pulse separation [s] for velocities in px/frame")
+	fs.StringVar(&r.columns, "columns", "", "columns to use as x,y,u,v[,status] (names or 1-based numbers)")
+	fs.Float64Var(&r.dt, "dt", 0, "time between frames [s] when the files give no times")
+	fs.BoolVar(&r.axisymmetric, "axisymmetric", false, "the plane is the meridional plane of an axisymmetric flow (x axial, y radial)")
+	fs.Float64Var(&r.axis, "axis", 0, "y coordinate of the symmetry axis [m] with --axisymmetric")
+	fs.BoolVar(&r.imageYDown, "y-down", false, "the file's y axis points down (image coordinates); flip it on reading")
+	fs.IntVar(&r.maxNodes, "max-nodes", piv.DefaultMaxNodes, "refuse grids with more nodes than this")
+	return r
+}
+
+func (r *readFlags) options() (piv.ReadOptions, error) {
+	if r.pixelSize < 0 || r.pulseSep < 0 || r.dt < 0 {
+		return piv.ReadOptions{}, usagef("--pixel-size, --pulse-separation and --dt must not be negative")
+	}
+	return piv.ReadOptions{
+		LengthUnit: r.lengthUnit, VelocityUnit: r.velocityUnit,
+		PixelSize: r.pixelSize, PulseSeparation: r.pulseSep,
+		Columns:    r.columns,
+		ImageYDown: r.imageYDown,
+		Geometry:   piv.Geometry{Axisymmetric: r.axisymmetric, AxisY: r.axis},
+		DT:         r.dt,
+		MaxNodes:   r.maxNodes,
+	}, nil
+}
+
+// open opens the series named by the command's arguments.
+func (r *readFlags) open(args []string) (*piv.Series, error) {
+	if len(args) == 0 {
+		return nil, usagef("no input files given")
+	}
+	opt, err := r.options()
+	if err != nil {
+		return nil, err
+	}
+	return piv.OpenSeries(args, opt)
+}
+
+// runFlags are the output and execution flags series commands share.
+type runFlags struct {
+	out     string
+	quiet   bool
+	workers int
+}
+
+func addRunFlags(fs *pflag.FlagSet) *runFlags {
+	r := &runFlags{}
+	fs.StringVarP(&r.out, "out", "o", "", "output folder (default: a new folder beside the first input, named after the command)")
+	fs.BoolVarP(&r.quiet, "quiet", "q", false, "no progress or diagnostics on stderr")
+	fs.IntVar(&r.workers, "workers", runtime.NumCPU(), "frames processed at once")
+	return r
+}
+
+// outDir returns the output folder for a command, creating it. With no --out it is a folder
+// named after the command beside the first input (wakekit-NAME, or wakekit-NAME-2, ... when
+// that exists).
+func (r *runFlags) outDir(name string, inputs []string) (string, error) {
+	dir := r.out
+	if dir == "" {
+		base := "."
+		if len(inputs) > 0 {
+			if st, err := os.Stat(inputs[0]); err == nil && st.IsDir() {
+				base = filepath.Dir(filepath.Clean(inputs[0]))
+			} else {
+				base = filepath.Dir(inputs[0])
+			}
+		}
+		dir = filepath.Join(base, "wakekit-"+name)
+		for n := 2; ; n++ {
+			if _, err := os.Stat(dir); os.IsNotExist(err) {
+				break
+			}
+			dir = filepath.Join(base, fmt.Sprintf("wakekit-%s-%d", name, n))
+		}
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return "", err
+	}
+	return dir, nil
+}
+
+// splitList splits a comma-separated flag value, dropping empty items.
+func splitList(s string) []string {
+	var out []string
+	for _, p := range strings.Split(s, ",") {
+		if p = strings.TrimSpace(p); p != "" {
+			out = append(out, p)
+		}
+	}
+	return out
+}
