@@ -1,14 +1,87 @@
 package piv
 
-import "errors"
+import (
+	"bufio"
+	"compress/gzip"
+	"errors"
+	"io"
+	"os"
+)
 
 // ReadFile reads one frame from a CSV table (optionally gzip-compressed) with the given options.
 func ReadFile(path string, opt ReadOptions) (*Field, error) {
-	return nil, errors.New("the CSV reader is being built")
+	f, _, err := ReadFileInfo(path, opt)
+	return f, err
 }
 
-// OpenSeries opens a series from command-line arguments: files, globs, folders or a frame index
-// CSV (columns file and time). Frames are read lazily.
-func OpenSeries(args []string, opt ReadOptions) (*Series, error) {
-	return nil, errors.New("the series reader is being built")
+// ReadFileInfo reads one frame from a CSV table like ReadFile and also says how the file was
+// read (delimiter, header, columns, units). The file is recorded as an input of this run
+// (MarkInput) so that no writer replaces it. Gzip compression is recognised by its magic bytes.
+func ReadFileInfo(path string, opt ReadOptions) (*Field, *FileInfo, error) {
+	r, size, gz, closer, err := openInput(path, opt)
+	if err != nil {
+		return nil, nil, err
+	}
+	defer closer.Close()
+	f, info, err := ReadCSV(r, path, size, opt)
+	if err != nil {
+		return nil, nil, err
+	}
+	info.Gzip = gz
+	return f, info, nil
+}
+
+// openInput opens a file for reading, checks its size against opt.MaxFileBytes, marks it as an
+// input and unwraps gzip. size is the file size, or 0 when compressed (unknown after
+// decompression).
+func openInput(path string, opt ReadOptions) (r io.Reader, size int64, gz bool, c io.Closer, err error) {
+	fh, err := os.Open(path)
+	if err != nil {
+		return nil, 0, false, nil, Errorf(path, 0, 0, "cannot open: %v", errors.Unwrap(err))
+	}
+	st, err := fh.Stat()
+	if err != nil {
+		fh.Close()
+		return nil, 0, false, nil, Errorf(path, 0, 0, "cannot read: %v", err)
+	}
+	if st.IsDir() {
+		fh.Close()
+		return nil, 0, false, nil, Errorf(path, 0, 0, "is a folder, not a file")
+	}
+	if opt.MaxFileBytes > 0 && st.Size() > opt.MaxFileBytes {
+		fh.Close()
+		return nil, 0, false, nil, Errorf(path, 0, 0, "file of %d bytes is larger than the limit of %d bytes", st.Size(), opt.MaxFileBytes)
+	}
+	MarkInput(path)
+	br := bufio.NewReaderSize(fh, 1<<16)
+	if magic, _ := br.Peek(2); len(magic) == 2 && magic[0] == 0x1f && magic[1] == 0x8b {
+		zr, err := gzip.NewReader(br)
+		if err != nil {
+			fh.Close()
+			return nil, 0, false, nil, Errorf(path, 0, 0, "cannot read gzip data: %v", err)
+		}
+		var lim io.Reader = zr
+		if opt.MaxFileBytes > 0 {
+			lim = &limitReader{r: zr, left: opt.MaxFileBytes, path: path}
+		}
+		return lim, 0, true, fh, nil
+	}
+	return br, st.Size(), false, fh, nil
+}
+
+// limitReader fails once more than left bytes have been read, so that a small compressed file
+// cannot expand past the file-size limit.
+type limitReader struct {
+	r    io.Reader
+	left int64
+	path string
+}
+
+func (l *limitReader) Read(p []byte) (int, error) {
+	n, err := l.r.Read(p)
+	l.left -= int64(n)
+	if l.left < 0 {
+		return n, Errorf(l.path, 0, 0, "decompressed data is larger than the limit of the file size")
+	}
+	return n, err
 }

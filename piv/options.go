@@ -12,8 +12,11 @@ type ReadOptions struct {
 	// Columns names the columns to use as "x,y,u,v[,status]" (by header name or 1-based number);
 	// empty finds them by name.
 	Columns string
-	// Plain-grid matrix files: origin and spacing (in LengthUnit) and whether the first row is
-	// the top (largest y).
+	// PlainGrid says the inputs are plain matrix files, one per velocity component (u, then v),
+	// placed on the grid given by X0, Y0, DX, DY.
+	PlainGrid bool
+	// Plain-grid matrix files: origin and spacing (in LengthUnit; DY = 0 means DY = DX) and
+	// whether the first row is the top (largest y).
 	X0, Y0, DX, DY float64
 	RowsTopDown    bool
 	// ImageYDown says the file's y axis points down (image coordinates); y is flipped on reading.

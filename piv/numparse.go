@@ -1,0 +1,129 @@
+package piv
+
+import (
+	"math"
+	"strconv"
+)
+
+// Number parsing for the readers. A hand-written fast path is used because strconv has no
+// ParseFloat for byte slices: decimals of at most 15 significant digits and a power of ten up
+// to 1e22 are converted exactly with one correctly rounded multiplication or division (Clinger
+// 1990, "How to read floating point numbers accurately", PLDI), the same fast path strconv takes
+// internally. Everything else goes to strconv.ParseFloat, whose string conversion the compiler
+// keeps on the stack for short cells, so neither path allocates.
+
+// pow10 holds the powers of ten that are exact in float64.
+var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
+	1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
+
+// parseFast parses a plain decimal number ([+-]digits[.digits][e[+-]digits]) exactly when it
+// can; ok is false when the text is not such a number or the fast path cannot guarantee the
+// correctly rounded result.
+func parseFast(b []byte) (f float64, ok bool) {
+	i := 0
+	neg := false
+	if i < len(b) && (b[i] == '-' || b[i] == '+') {
+		neg = b[i] == '-'
+		i++
+	}
+	var m uint64
+	nd, exp := 0, 0
+	digits, dot := false, false
+	for ; i < len(b); i++ {
+		c := b[i]
+		if c >= '0' && c <= '9' {
+			digits = true
+			if m == 0 && c == '0' {
+				if dot {
+					exp--
+				}
+				continue
+			}
+			if nd >= 15 {
+				return 0, false
+			}
+			m = m*10 + uint64(c-'0')
+			nd++
+			if dot {
+				exp--
+			}
+			continue
+		}
+		if c == '.' && !dot {
+			dot = true
+			continue
+		}
+		break
+	}
+	if !digits {
+		return 0, false
+	}
+	if i < len(b) && (b[i] == 'e' || b[i] == 'E') {
+		i++
+		eneg := false
+		if i < len(b) && (b[i] == '-' || b[i] == '+') {
+			eneg = b[i] == '-'
+			i++
+		}
+		e, ed := 0, 0
+		for ; i < len(b) && b[i] >= '0' && b[i] <= '9'; i++ {
+			if e < 10000 {
+				e = e*10 + int(b[i]-'0')
+			}
+			ed++
+		}
+		if ed == 0 {
+			return 0, false
+		}
+		if eneg {
+			e = -e
+		}
+		exp += e
+	}
+	if i != len(b) {
+		return 0, false
+	}
+	if m == 0 {
+		if neg {
+			return math.Copysign(0, -1), true
+		}
+		return 0, true
+	}
+	if exp < -22 || exp > 22 {
+		return 0, false
+	}
+	f = float64(m)
+	if exp < 0 {
+		f /= pow10[-exp]
+	} else {
+		f *= pow10[exp]
+	}
+	if neg {
+		f = -f
+	}
+	return f, true
+}
+
+// parseNumber parses one cell. It returns ok = false for text that is not a number; numbers
+// beyond the float64 range are not numbers here either.
+func parseNumber(b []byte) (float64, bool) {
+	if f, ok := parseFast(b); ok {
+		return f, true
+	}
+	if len(b) > 64 {
+		return 0, false
+	}
+	f, err := strconv.ParseFloat(string(b), 64)
+	if err != nil {
+		return 0, false
+	}
+	return f, true
+}
+
+// isNaNText reports whether a cell spells NaN (any case), the missing-vector marker.
+func isNaNText(b []byte) bool {
+	if len(b) == 4 && (b[0] == '+' || b[0] == '-') {
+		b = b[1:]
+	}
+	return len(b) == 3 && (b[0]|0x20) == 'n' && (b[1]|0x20) == 'a' && (b[2]|0x20) == 'n'
+}
