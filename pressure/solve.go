@@ -1,0 +1,366 @@
+package pressure
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"github.com/wakekit/wakekit/piv"
+)
+
+// Solver names a way of integrating a pressure gradient into a pressure field.
+type Solver int
+
+const (
+	// Auto picks Transform when the problem allows it and Multigrid otherwise.
+	Auto Solver = iota
+	// Transform is the direct solver: a fast cosine or sine transform along x (matching the
+	// left/right boundary types) and a tridiagonal solve along y for each mode. It needs every
+	// node valid and the left and right edges of the same type; it handles axisymmetric
+	// problems because the radial operator is tridiagonal.
+	Transform
+	// Multigrid is the matrix-free conjugate-gradient method preconditioned by one V-cycle of
+	// an aggregation multigrid; it handles any mask.
+	Multigrid
+	// Paths integrates the gradient directly along many marching paths started from the four
+	// corners in two orders and averages them; it solves no Poisson equation and serves as an
+	// independent cross-check.
+	Paths
+)
+
+// ParseSolver reads "auto", "transform", "multigrid" or "paths".
+func ParseSolver(s string) (Solver, error) {
+	switch s {
+	case "auto", "":
+		return Auto, nil
+	case "transform", "fft", "direct":
+		return Transform, nil
+	case "multigrid", "cg", "mg":
+		return Multigrid, nil
+	case "paths", "path":
+		return Paths, nil
+	}
+	return 0, fmt.Errorf("unknown solver %q (expected auto, transform, multigrid or paths)", s)
+}
+
+// String returns the solver's name.
+func (s Solver) String() string {
+	switch s {
+	case Transform:
+		return "transform"
+	case Multigrid:
+		return "multigrid"
+	case Paths:
+		return "paths"
+	}
+	return "auto"
+}
+
+// Options configures the integration of a pressure gradient.
+type Options struct {
+	// Solver selects the integrator (Auto by default).
+	Solver Solver
+	// Dirichlet names the edges on which the pressure is prescribed. Nodes of those edges
+	// without a gradient (missing or solid) are skipped; an edge with no valid node at all is
+	// an error.
+	Dirichlet Edges
+	// Boundary gives the prescribed value at node (i, j) of a Dirichlet edge; nil means PInf.
+	Boundary func(i, j int) float64
+	// PInf is the reference pressure [Pa] (default 0).
+	PInf float64
+	// LevelOnly keeps the Neumann condition (the measured gradient) on every edge and uses the
+	// prescribed edge values only to fix the pressure level: the solution is shifted so that
+	// its mean over the valid nodes of the Dirichlet edges equals the mean prescribed value.
+	LevelOnly bool
+	// RefPoint, when set and no edge is prescribed, fixes the level so that the pressure
+	// interpolated at (RefX, RefY) equals PInf. With neither, the mean pressure is PInf.
+	RefPoint   bool
+	RefX, RefY float64
+	// Tol is the relative residual at which the iterative solver stops (default 1e-8).
+	Tol float64
+	// MaxIter bounds the conjugate-gradient iterations (default 500).
+	MaxIter int
+}
+
+// Result is a pressure field and how it was obtained.
+type Result struct {
+	// P is the pressure [Pa] on the grid, NaN where the gradient is not known.
+	P []float64
+	// Solver is the integrator actually used.
+	Solver Solver
+	// Iterations of the conjugate-gradient solver (0 for direct solvers).
+	Iterations int
+	// Residual is the final relative residual ||b - A p|| / ||b|| of the discrete Poisson
+	// problem (also reported for the direct and path solvers, for comparison).
+	Residual float64
+	// Components is the number of disconnected regions of valid data; each without a
+	// Dirichlet node has its level fixed separately (mean PInf).
+	Components int
+}
+
+// ErrNoData is returned when no node has a finite pressure gradient.
+var ErrNoData = errors.New("no node has a pressure gradient (no valid velocity data)")
+
+// Integrate turns the pressure gradient (gx, gy) [Pa/m] on grid g into a pressure field.
+// Nodes where either component is NaN have no pressure; the Neumann condition is applied around
+// them and on every edge not named in opt.Dirichlet.
+//
+// The Poisson solvers use the finite-volume discretisation described on system (second order);
+// planar and axisymmetric (cylindrical Laplacian (1/r)∂r(r ∂r p) + ∂xx p) geometries are
+// supported.
+func Integrate(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*Result, error) {
+	n := g.N()
+	if len(gx) != n || len(gy) != n {
+		return nil, fmt.Errorf("gradient slices (%d, %d) do not match the %dx%d grid", len(gx), len(gy), g.NX, g.NY)
+	}
+	if opt.Tol <= 0 {
+		opt.Tol = 1e-8
+	}
+	if opt.MaxIter <= 0 {
+		opt.MaxIter = 500
+	}
+	any := false
+	for k := range gx {
+		if isFinite(gx[k]) && isFinite(gy[k]) {
+			any = true
+			break
+		}
+	}
+	if !any {
+		return nil, ErrNoData
+	}
+	fixedVal, err := dirichletValues(g, gx, gy, opt)
+	if err != nil {
+		return nil, err
+	}
+	var sysFixed []float64
+	if !opt.LevelOnly {
+		sysFixed = fixedVal
+	}
+	s := newSystem(g, geom, gx, gy, sysFixed)
+	solver := opt.Solver
+	if solver == Auto {
+		solver = Multigrid
+		if transformApplies(s, opt) == nil {
+			solver = Transform
+		}
+	}
+	res := &Result{Solver: solver}
+	var p []float64
+	switch solver {
+	case Transform:
+		if err := transformApplies(s, opt); err != nil {
+			return nil, err
+		}
+		p = solveTransform(s, g, geom)
+	case Multigrid:
+		p, res.Iterations, err = solvePCG(s, opt.Tol, opt.MaxIter)
+		if err != nil {
+			return nil, err
+		}
+	case Paths:
+		p = integratePaths(g, gx, gy, s.active)
+	default:
+		return nil, fmt.Errorf("unknown solver %d", solver)
+	}
+	res.Residual = s.residual(p)
+	res.Components = fixLevel(s, g, p, fixedVal, opt, solver == Paths)
+	for k := range p {
+		if !s.active[k] {
+			p[k] = math.NaN()
+		}
+	}
+	res.P = p
+	return res, nil
+}
+
+// dirichletValues returns the prescribed value at every valid node of the Dirichlet edges (NaN
+// elsewhere), or nil when no edge is named.
+func dirichletValues(g piv.Grid, gx, gy []float64, opt Options) ([]float64, error) {
+	if opt.Dirichlet == 0 {
+		return nil, nil
+	}
+	val := piv.NaNs(g.N())
+	edges := []struct {
+		e    Edges
+		name string
+		i0   int
+		j0   int
+		di   int
+		dj   int
+		n    int
+	}{
+		{Left, "left", 0, 0, 0, 1, g.NY},
+		{Right, "right", g.NX - 1, 0, 0, 1, g.NY},
+		{Bottom, "bottom", 0, 0, 1, 0, g.NX},
+		{Top, "top", 0, g.NY - 1, 1, 0, g.NX},
+	}
+	for _, e := range edges {
+		if opt.Dirichlet&e.e == 0 {
+			continue
+		}
+		count := 0
+		for m := 0; m < e.n; m++ {
+			i, j := e.i0+m*e.di, e.j0+m*e.dj
+			k := g.Index(i, j)
+			if !isFinite(gx[k]) || !isFinite(gy[k]) {
+				continue
+			}
+			v := opt.PInf
+			if opt.Boundary != nil {
+				v = opt.Boundary(i, j)
+			}
+			if !isFinite(v) {
+				return nil, fmt.Errorf("reference pressure at node (%d, %d) of the %s edge is not finite", i, j, e.name)
+			}
+			val[k] = v
+			count++
+		}
+		if count == 0 {
+			return nil, fmt.Errorf("the %s edge, named as a reference (Dirichlet) edge, has no valid data", e.name)
+		}
+	}
+	return val, nil
+}
+
+// residual returns ||b - A p|| / ||b|| over the unknowns, with p holding the fixed values at
+// fixed nodes (a common constant shift is removed first for components without fixed nodes,
+// which does not change A p).
+func (s *system) residual(p []float64) float64 {
+	n := len(p)
+	x := make([]float64, n)
+	for k := range x {
+		if s.unknown(k) {
+			x[k] = p[k]
+		}
+	}
+	y := make([]float64, n)
+	s.apply(x, y)
+	var rr, bb float64
+	for k := range y {
+		if s.unknown(k) {
+			d := s.b[k] - y[k]
+			rr += d * d
+			bb += s.b[k] * s.b[k]
+		}
+	}
+	if bb == 0 {
+		return math.Sqrt(rr)
+	}
+	return math.Sqrt(rr / bb)
+}
+
+// fixLevel sets the additive constant of each connected region of p that the Dirichlet values
+// do not determine, and writes the fixed values. It returns the number of regions.
+func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree bool) int {
+	if !allFree {
+		for k := range p {
+			if s.fixed[k] {
+				p[k] = s.val[k]
+			}
+		}
+	}
+	label := connected(g, s.active)
+	nc := 0
+	for _, l := range label {
+		if l+1 > nc {
+			nc = l + 1
+		}
+	}
+	for c := 0; c < nc; c++ {
+		determined := false
+		if !allFree && !opt.LevelOnly && fixedVal != nil {
+			for k, l := range label {
+				if l == c && !math.IsNaN(fixedVal[k]) {
+					determined = true
+					break
+				}
+			}
+		}
+		if determined {
+			continue
+		}
+		var target, have, wsum float64
+		switch {
+		case fixedVal != nil:
+			// Match the mean over the prescribed nodes of this region.
+			for k, l := range label {
+				if l == c && !math.IsNaN(fixedVal[k]) {
+					target += fixedVal[k]
+					have += p[k]
+					wsum++
+				}
+			}
+		case opt.RefPoint:
+			if pr := piv.Sample(g, maskNaN(p, label, c), opt.RefX, opt.RefY, piv.Bilinear); !math.IsNaN(pr) {
+				target, have, wsum = opt.PInf, pr, 1
+			}
+		}
+		if wsum == 0 {
+			// Mean of the region (volume-weighted) equals PInf.
+			for k, l := range label {
+				if l == c {
+					have += s.w[k] * p[k]
+					wsum += s.w[k]
+				}
+			}
+			target = opt.PInf * wsum
+		}
+		if wsum == 0 {
+			continue
+		}
+		shift := (target - have) / wsum
+		for k, l := range label {
+			if l == c {
+				p[k] += shift
+			}
+		}
+	}
+	return nc
+}
+
+// maskNaN returns a copy of p with NaN outside region c.
+func maskNaN(p []float64, label []int, c int) []float64 {
+	q := make([]float64, len(p))
+	for k := range p {
+		if label[k] == c {
+			q[k] = p[k]
+		} else {
+			q[k] = math.NaN()
+		}
+	}
+	return q
+}
+
+// connected labels the 4-connected regions of active nodes (-1 elsewhere).
+func connected(g piv.Grid, active []bool) []int {
+	label := make([]int, len(active))
+	for k := range label {
+		label[k] = -1
+	}
+	id := 0
+	var stack []int
+	for k0, a := range active {
+		if !a || label[k0] >= 0 {
+			continue
+		}
+		label[k0] = id
+		stack = append(stack[:0], k0)
+		for len(stack) > 0 {
+			k := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			i, j := k%g.NX, k/g.NX
+			for _, m := range [4][2]int{{i - 1, j}, {i + 1, j}, {i, j - 1}, {i, j + 1}} {
+				if g.In(m[0], m[1]) {
+					q := g.Index(m[0], m[1])
+					if active[q] && label[q] < 0 {
+						label[q] = id
+						stack = append(stack, q)
+					}
+				}
+			}
+		}
+		id++
+	}
+	return label
+}
