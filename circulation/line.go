@@ -77,7 +77,7 @@ func CircleSampled(g piv.Grid, c piv.Circle, spacing float64) (*Contour, error) 
 
 // PolygonContour samples the closed polygon p with points no farther apart than spacing
 // (spacing <= 0 means DefaultSpacing of g). Each edge is integrated by the composite
-// trapezoidal rule, whose error on an edge of length L is L·ds²·max|f''|/12 for a smooth
+// trapezoidal rule, whose error on an edge of length L is L·ds²·max|f”|/12 for a smooth
 // integrand f (any numerical analysis text, e.g. Burden & Faires, Numerical Analysis §4.4).
 // The vertices are kept as sample points, so corners are integrated exactly as far as the
 // integrand allows. A clockwise polygon is reversed.
