@@ -733,6 +733,10 @@ func (c *csvReader) axis(vals []float64, s int) (x0, h float64, n int, err error
 			step = d
 		}
 	}
+	if step < 1e-9*math.Max(math.Abs(lo), math.Abs(hi)) {
+		return 0, 0, 0, c.errf(0, 0, "the %s coordinates (%g..%g m) differ by as little as %g m, too fine a step to resolve at their magnitude; is this a velocity table?",
+			name, lo, hi, step)
+	}
 	if cells := span / step; cells <= float64(c.maxNodes) {
 		m := int(math.Round(cells))
 		h = span / float64(m)

@@ -35,10 +35,10 @@ func ReadPlainGridInfo(uPath, vPath string, opt ReadOptions) (*Field, *FileInfo,
 		dy = dx
 	}
 	if !(dx > 0) || !(dy > 0) || math.IsInf(dx, 0) || math.IsInf(dy, 0) {
-		return nil, nil, Errorf(uPath, 0, 0, "plain grid: the spacing (%g, %g) must be finite and positive (--spacing)", opt.DX, opt.DY)
+		return nil, nil, Errorf(uPath, 0, 0, "plain grid: the spacing (%g, %g) must be finite and positive (--grid-spacing)", opt.DX, opt.DY)
 	}
 	if !isFinite(opt.X0) || !isFinite(opt.Y0) {
-		return nil, nil, Errorf(uPath, 0, 0, "plain grid: the origin (%g, %g) must be finite (--origin)", opt.X0, opt.Y0)
+		return nil, nil, Errorf(uPath, 0, 0, "plain grid: the origin (%g, %g) must be finite (--grid-origin)", opt.X0, opt.Y0)
 	}
 	maxNodes := opt.MaxNodes
 	if maxNodes <= 0 {

@@ -5,6 +5,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/pflag"
@@ -21,6 +22,10 @@ type readFlags struct {
 	axis                     float64
 	imageYDown               bool
 	maxNodes                 int
+	// plain-grid matrix input
+	plain           bool
+	origin, spacing string
+	rowsTopDown     bool
 }
 
 func addReadFlags(fs *pflag.FlagSet) *readFlags {
@@ -35,6 +40,10 @@ func addReadFlags(fs *pflag.FlagSet) *readFlags {
 	fs.Float64Var(&r.axis, "axis", 0, "y coordinate of the symmetry axis [m] with --axisymmetric")
 	fs.BoolVar(&r.imageYDown, "y-down", false, "the file's y axis points down (image coordinates); flip it on reading")
 	fs.IntVar(&r.maxNodes, "max-nodes", piv.DefaultMaxNodes, "refuse grids with more nodes than this")
+	fs.BoolVar(&r.plain, "plain", false, "the inputs are plain matrices: a u file (or glob) and a v file (or glob), rows = y")
+	fs.StringVar(&r.origin, "grid-origin", "0,0", "with --plain: x,y of the first matrix value (in --length-unit)")
+	fs.StringVar(&r.spacing, "grid-spacing", "", "with --plain: grid spacing DX[,DY] (in --length-unit)")
+	fs.BoolVar(&r.rowsTopDown, "rows-top-down", false, "with --plain: the first matrix row is the top (largest y)")
 	return r
 }
 
@@ -42,7 +51,23 @@ func (r *readFlags) options() (piv.ReadOptions, error) {
 	if r.pixelSize < 0 || r.pulseSep < 0 || r.dt < 0 {
 		return piv.ReadOptions{}, usagef("--pixel-size, --pulse-separation and --dt must not be negative")
 	}
+	var x0, y0, dx, dy float64
+	if r.plain {
+		o, err := parseFloats("--grid-origin", r.origin, 2, 2)
+		if err != nil {
+			return piv.ReadOptions{}, err
+		}
+		if r.spacing == "" {
+			return piv.ReadOptions{}, usagef("--plain needs the grid spacing: --grid-spacing DX[,DY]")
+		}
+		sp, err := parseFloats("--grid-spacing", r.spacing, 1, 2)
+		if err != nil {
+			return piv.ReadOptions{}, err
+		}
+		x0, y0, dx, dy = o[0], o[1], sp[0], sp[len(sp)-1]
+	}
 	return piv.ReadOptions{
+		PlainGrid: r.plain, X0: x0, Y0: y0, DX: dx, DY: dy, RowsTopDown: r.rowsTopDown,
 		LengthUnit: r.lengthUnit, VelocityUnit: r.velocityUnit,
 		PixelSize: r.pixelSize, PulseSeparation: r.pulseSep,
 		Columns:    r.columns,
@@ -117,4 +142,21 @@ func splitList(s string) []string {
 		}
 	}
 	return out
+}
+
+// parseFloats reads a comma-separated list of between lo and hi numbers for a flag.
+func parseFloats(flag, s string, lo, hi int) ([]float64, error) {
+	items := splitList(s)
+	if len(items) < lo || len(items) > hi {
+		return nil, usagef("%s %q: expected %d to %d comma-separated numbers", flag, s, lo, hi)
+	}
+	out := make([]float64, len(items))
+	for k, it := range items {
+		v, err := strconv.ParseFloat(it, 64)
+		if err != nil {
+			return nil, usagef("%s: cannot read %q as a number", flag, it)
+		}
+		out[k] = v
+	}
+	return out, nil
 }

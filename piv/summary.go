@@ -1,0 +1,64 @@
+package piv
+
+import "math"
+
+// FieldSummary holds the node counts and the velocity statistics of one frame, over its valid
+// nodes. Statistics are NaN when the frame has no valid node.
+type FieldSummary struct {
+	Nodes                              int
+	Measured, Replaced, Missing, Solid int
+	// ValidShare is the fraction of nodes with a usable vector.
+	ValidShare float64
+	// Ranges and means of u, v [m/s] and of the in-plane speed sqrt(u²+v²).
+	UMin, UMax, UMean          float64
+	VMin, VMax, VMean          float64
+	SpeedMax, SpeedMean, URMS float64
+}
+
+// Summarize counts the nodes of f by status kind and computes the ranges and means of its
+// valid velocities. URMS is the root mean square of the speed.
+func Summarize(f *Field) FieldSummary {
+	s := FieldSummary{Nodes: len(f.Status)}
+	nan := math.NaN()
+	umin, umax, vmin, vmax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	var su, sv, ss, sq, smax float64
+	n := 0
+	for k, st := range f.Status {
+		switch st.Kind() {
+		case Measured:
+			s.Measured++
+		case Replaced:
+			s.Replaced++
+		case Missing:
+			s.Missing++
+		default:
+			s.Solid++
+		}
+		if !f.Valid(k) {
+			continue
+		}
+		u, v := f.U[k], f.V[k]
+		n++
+		umin, umax = math.Min(umin, u), math.Max(umax, u)
+		vmin, vmax = math.Min(vmin, v), math.Max(vmax, v)
+		su += u
+		sv += v
+		sp := math.Hypot(u, v)
+		ss += sp
+		sq += sp * sp
+		smax = math.Max(smax, sp)
+	}
+	if s.Nodes > 0 {
+		s.ValidShare = float64(n) / float64(s.Nodes)
+	}
+	if n == 0 {
+		s.UMin, s.UMax, s.UMean, s.VMin, s.VMax, s.VMean = nan, nan, nan, nan, nan, nan
+		s.SpeedMax, s.SpeedMean, s.URMS = nan, nan, nan
+		return s
+	}
+	fn := float64(n)
+	s.UMin, s.UMax, s.UMean = umin, umax, su/fn
+	s.VMin, s.VMax, s.VMean = vmin, vmax, sv/fn
+	s.SpeedMax, s.SpeedMean, s.URMS = smax, ss/fn, math.Sqrt(sq/fn)
+	return s
+}
