@@ -10,8 +10,8 @@ type FieldSummary struct {
 	// ValidShare is the fraction of nodes with a usable vector.
 	ValidShare float64
 	// Ranges and means of u, v [m/s] and of the in-plane speed sqrt(u²+v²).
-	UMin, UMax, UMean          float64
-	VMin, VMax, VMean          float64
+	UMin, UMax, UMean         float64
+	VMin, VMax, VMean         float64
 	SpeedMax, SpeedMean, URMS float64
 }
 
