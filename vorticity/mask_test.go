@@ -31,7 +31,7 @@ func allOutputs(f *piv.Field, sc Scheme) map[string][]float64 {
 		"strain": gr.StrainMagnitude(), "q": gr.Q(), "lambda2": gr.Lambda2(),
 		"swirl": gr.Swirl(true), "enstrophy": gr.Enstrophy(), "hoop": gr.HoopStrain(),
 		"sigma-w": gr.VorticityUncertainty(0.01),
-		"gamma1": Gamma1(f, 2), "gamma2": Gamma2(f, 2),
+		"gamma1":  Gamma1(f, 2), "gamma2": Gamma2(f, 2),
 	}
 }
 
