@@ -29,10 +29,10 @@ func readString(t *testing.T, text string, opt ReadOptions) (*Field, *FileInfo) 
 // v = -u, with node (2, 1) absent (missing).
 func TestReadCSVLayouts(t *testing.T) {
 	layouts := map[string]string{
-		"comma with units": "x [mm],y [mm],u [m/s],v [m/s]\n0,0,1,-1\n1,0,2,-2\n2,0,3,-3\n0,1,11,-11\n1,1,12,-12\n",
-		"semicolon, decimal comma, parentheses": "x (mm);y (mm);u (m/s);v (m/s)\n0;0;1;-1\n1;0;2,0;-2\n2;0;3;-3\n0;1;11;-11\n1;1;12;-12\n",
-		"tab, vx vy, extra column": "x [mm]\ty [mm]\tp [Pa]\tvx [m/s]\tvy [m/s]\n0\t0\t9\t1\t-1\n1\t0\t9\t2\t-2\n2\t0\t9\t3\t-3\n0\t1\t9\t11\t-11\n1\t1\t9\t12\t-12\n",
-		"spaces, comments, CRLF, shuffled": "# exported by an invented tank rig\r\nx [mm]   y [mm]   U [m/s]  V [m/s]\r\n  1 1 12 -12\r\n\r\n# a comment\r\n0 0 1 -1\r\n2 0 3 -3\r\n1 0 2 -2\r\n0 1 11 -11\r\n",
+		"comma with units":                         "x [mm],y [mm],u [m/s],v [m/s]\n0,0,1,-1\n1,0,2,-2\n2,0,3,-3\n0,1,11,-11\n1,1,12,-12\n",
+		"semicolon, decimal comma, parentheses":    "x (mm);y (mm);u (m/s);v (m/s)\n0;0;1;-1\n1;0;2,0;-2\n2;0;3;-3\n0;1;11;-11\n1;1;12;-12\n",
+		"tab, vx vy, extra column":                 "x [mm]\ty [mm]\tp [Pa]\tvx [m/s]\tvy [m/s]\n0\t0\t9\t1\t-1\n1\t0\t9\t2\t-2\n2\t0\t9\t3\t-3\n0\t1\t9\t11\t-11\n1\t1\t9\t12\t-12\n",
+		"spaces, comments, CRLF, shuffled":         "# exported by an invented tank rig\r\nx [mm]   y [mm]   U [m/s]  V [m/s]\r\n  1 1 12 -12\r\n\r\n# a comment\r\n0 0 1 -1\r\n2 0 3 -3\r\n1 0 2 -2\r\n0 1 11 -11\r\n",
 		"underscore units, y fastest, missing row": "x_mm,y_mm,u,v\n0,0,1,-1\n0,1,11,-11\n1,0,2,-2\n1,1,12,-12\n2,0,3,-3\n2,1,NaN,NaN\n",
 		"quoted header, status":                    "\"x [mm]\",\"y [mm]\",\"u [m/s]\",\"v [m/s]\",\"status\"\n0,0,1,-1,measured\n1,0,2,-2,0\n2,0,3,-3,measured\n0,1,11,-11,measured\n1,1,12,-12,measured\n2,1,5,5,missing\n",
 	}
