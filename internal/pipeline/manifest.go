@@ -139,6 +139,7 @@ func ParseManifest(name string, r io.Reader) (*Manifest, error) {
 	m := &Manifest{}
 	byFrame := map[int]int{}
 	line := 0
+	haveHeader := false
 	var buf []byte
 	for {
 		chunk, err := br.ReadSlice('\n')
@@ -162,10 +163,11 @@ func ParseManifest(name string, r io.Reader) (*Manifest, error) {
 		if len(text) == 0 {
 			continue
 		}
-		if line == 1 {
-			if err := parseHeader(name, text, &m.Header); err != nil {
+		if !haveHeader {
+			if err := parseHeader(name, line, text, &m.Header); err != nil {
 				return nil, err
 			}
+			haveHeader = true
 			continue
 		}
 		var e Entry
@@ -182,7 +184,7 @@ func ParseManifest(name string, r io.Reader) (*Manifest, error) {
 		byFrame[e.Frame] = len(m.Entries)
 		m.Entries = append(m.Entries, e)
 	}
-	if line == 0 {
+	if !haveHeader {
 		return nil, piv.Errorf(name, 0, 0, "empty manifest (no header line)")
 	}
 	sort.Slice(m.Entries, func(a, b int) bool { return m.Entries[a].Frame < m.Entries[b].Frame })
@@ -201,39 +203,39 @@ func strictUnmarshal(text []byte, v any) error {
 	return nil
 }
 
-func parseHeader(name string, text []byte, h *Header) error {
+func parseHeader(name string, line int, text []byte, h *Header) error {
 	if err := strictUnmarshal(text, h); err != nil {
-		return piv.Errorf(name, 1, 0, "cannot read manifest header: %v", err)
+		return piv.Errorf(name, line, 0, "cannot read manifest header: %v", err)
 	}
 	if h.Format != ManifestFormat {
-		return piv.Errorf(name, 1, 0, "manifest format %q is not %q (written by another wakekit version?)", h.Format, ManifestFormat)
+		return piv.Errorf(name, line, 0, "manifest format %q is not %q (written by another wakekit version?)", h.Format, ManifestFormat)
 	}
 	switch {
 	case h.Command == "":
-		return piv.Errorf(name, 1, 0, "manifest header names no command")
+		return piv.Errorf(name, line, 0, "manifest header names no command")
 	case h.Frames < 1 || h.Frames > MaxFrames:
-		return piv.Errorf(name, 1, 0, "manifest says the series has %d frames; expected 1 to %d", h.Frames, MaxFrames)
+		return piv.Errorf(name, line, 0, "manifest says the series has %d frames; expected 1 to %d", h.Frames, MaxFrames)
 	case h.From < 0 || h.To > h.Frames || h.From > h.To:
-		return piv.Errorf(name, 1, 0, "manifest frame range %d..%d is outside the series of %d frames", h.From, h.To, h.Frames)
+		return piv.Errorf(name, line, 0, "manifest frame range %d..%d is outside the series of %d frames", h.From, h.To, h.Frames)
 	case h.Halo < 0 || h.Halo > h.Frames:
-		return piv.Errorf(name, 1, 0, "manifest halo %d is out of range", h.Halo)
+		return piv.Errorf(name, line, 0, "manifest halo %d is out of range", h.Halo)
 	}
 	if h.Shard != "" {
 		sh, err := ParseShard(h.Shard)
 		if err != nil {
-			return piv.Errorf(name, 1, 0, "%v", err)
+			return piv.Errorf(name, line, 0, "%v", err)
 		}
 		if from, to, _ := sh.Range(h.Frames); from != h.From || to != h.To {
-			return piv.Errorf(name, 1, 0, "shard %s of %d frames is frames %d..%d, not %d..%d", h.Shard, h.Frames, from, to, h.From, h.To)
+			return piv.Errorf(name, line, 0, "shard %s of %d frames is frames %d..%d, not %d..%d", h.Shard, h.Frames, from, to, h.From, h.To)
 		}
 	}
 	seen := map[string]bool{}
 	for _, t := range h.Tables {
 		if err := checkLocalName(t.Name); err != nil {
-			return piv.Errorf(name, 1, 0, "table: %v", err)
+			return piv.Errorf(name, line, 0, "table: %v", err)
 		}
 		if seen[t.Name] {
-			return piv.Errorf(name, 1, 0, "table %q listed twice", t.Name)
+			return piv.Errorf(name, line, 0, "table %q listed twice", t.Name)
 		}
 		seen[t.Name] = true
 	}
