@@ -1,0 +1,191 @@
+package pressure
+
+import (
+	"bufio"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"sync"
+	"testing"
+
+	"github.com/wakekit/wakekit/piv"
+	"github.com/wakekit/wakekit/piv/analytic"
+)
+
+// cfdDir is the axisymmetric starting-jet reference simulation (general-purpose Navier–Stokes
+// solver; see its README for the set-up and how the exit forces were computed).
+const cfdDir = "../../shared/reference/starting-jet-LD4"
+
+// readSeriesCSV reads the columns of a numeric CSV file with a header.
+func readSeriesCSV(t *testing.T, path string) map[string][]float64 {
+	t.Helper()
+	fh, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer fh.Close()
+	sc := bufio.NewScanner(fh)
+	sc.Scan()
+	names := strings.Split(strings.TrimSpace(sc.Text()), ",")
+	out := map[string][]float64{}
+	for sc.Scan() {
+		for c, s := range strings.Split(strings.TrimSpace(sc.Text()), ",") {
+			v, err := strconv.ParseFloat(s, 64)
+			if err != nil {
+				t.Fatalf("%s: %v", path, err)
+			}
+			out[names[c]] = append(out[names[c]], v)
+		}
+	}
+	return out
+}
+
+// interp returns the linear interpolation of (ts, fs) at t.
+func interp(ts, fs []float64, t float64) float64 {
+	for m := 1; m < len(ts); m++ {
+		if ts[m] >= t {
+			w := (t - ts[m-1]) / (ts[m] - ts[m-1])
+			return fs[m-1] + w*(fs[m]-fs[m-1])
+		}
+	}
+	return fs[len(fs)-1]
+}
+
+// cfdFrames loads the reference frames once into memory.
+var cfdOnce struct {
+	sync.Once
+	frames []*piv.Field
+	err    error
+}
+
+func loadCFD(t *testing.T) []*piv.Field {
+	t.Helper()
+	if _, err := os.Stat(filepath.Join(cfdDir, "frames.csv")); err != nil {
+		t.Skipf("CFD reference data not found at %s: %v", cfdDir, err)
+	}
+	cfdOnce.Do(func() {
+		opt := piv.ReadOptions{Geometry: piv.Geometry{Axisymmetric: true}}
+		s, err := piv.OpenSeries([]string{filepath.Join(cfdDir, "frames.csv")}, opt)
+		if err != nil {
+			cfdOnce.err = err
+			return
+		}
+		for k := 0; k < s.Len(); k++ {
+			f, err := s.Frame(k)
+			if err != nil {
+				cfdOnce.err = err
+				return
+			}
+			cfdOnce.frames = append(cfdOnce.frames, f)
+		}
+	})
+	if cfdOnce.err != nil {
+		t.Fatal(cfdOnce.err)
+	}
+	return cfdOnce.frames
+}
+
+// cfdRun reconstructs the exit pressure force of every frame and returns times and P.
+func cfdRun(t *testing.T, frames []*piv.Field, opt FrameOptions) (ts, P, M []float64) {
+	s, err := piv.MemorySeries(frames)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := s.Len()
+	ts, P, M = make([]float64, n), make([]float64, n), make([]float64, n)
+	var wg sync.WaitGroup
+	errs := make([]error, n)
+	sem := make(chan struct{}, 2)
+	for k := 0; k < n; k++ {
+		wg.Add(1)
+		sem <- struct{}{}
+		go func(k int) {
+			defer wg.Done()
+			defer func() { <-sem }()
+			r, err := Reconstruct(s, k, opt)
+			if err != nil {
+				errs[k] = err
+				return
+			}
+			ts[k], P[k], M[k] = s.Time(k), r.Exit.P, r.Exit.M
+		}(k)
+	}
+	wg.Wait()
+	for _, e := range errs {
+		if e != nil {
+			t.Fatal(e)
+		}
+	}
+	return ts, P, M
+}
+
+type cfdScore struct {
+	rms, peak, impulse, impulseTrue, total float64
+	up, upTrue, down, downTrue     float64
+}
+
+func scoreCFD(t *testing.T, ts, P []float64) cfdScore {
+	truth := readSeriesCSV(t, filepath.Join(cfdDir, "truth_exit_highres.csv"))
+	tt, tp, tm := truth["t"], truth["P"], truth["M"]
+	var sc cfdScore
+	for _, v := range tp {
+		sc.peak = math.Max(sc.peak, math.Abs(v))
+	}
+	ss := 0.0
+	for k := range ts {
+		d := P[k] - interp(tt, tp, ts[k])
+		ss += d * d
+	}
+	sc.rms = math.Sqrt(ss / float64(len(ts)))
+	// The fluid is at rest with p = 0 at t = 0 (README), so P(0) = 0 closes the record.
+	t0 := append([]float64{0}, ts...)
+	p0 := append([]float64{0}, P...)
+	end := ts[len(ts)-1]
+	sc.impulse = TimeIntegral(t0, p0, 0, end)
+	sc.impulseTrue = TimeIntegral(tt, tp, 0, end)
+	sum := make([]float64, len(tt))
+	for m := range tt {
+		sum[m] = tm[m] + tp[m]
+	}
+	sc.total = TimeIntegral(tt, sum, 0, end)
+	// Ramps of the imposed program (README): tau = 0.28 s, T = 2.78 s.
+	sc.up, sc.upTrue = TimeIntegral(t0, p0, 0, 0.28), TimeIntegral(tt, tp, 0, 0.28)
+	sc.down, sc.downTrue = TimeIntegral(t0, p0, 2.5, 2.78), TimeIntegral(tt, tp, 2.5, 2.78)
+	return sc
+}
+
+func cfdOptions() FrameOptions {
+	return FrameOptions{
+		Accel: AccelOptions{Method: Eulerian, Rest: true, RestTime: 0},
+		// Fluid of the simulation (README): rho = 1000 kg/m^3, nu = 1e-6 m^2/s.
+		Fluid:     Fluid{Rho: 1000, Nu: 1e-6},
+		Solve:     Options{Dirichlet: Right | Top},
+		Reference: Source,
+		Exit:      &Exit{X: 0, Radius: 0.0125, Axis: 0},
+	}
+}
+
+func TestCFDStartingJetExitPressure(t *testing.T) {
+	frames := loadCFD(t)
+	for _, tc := range []struct {
+		name string
+		mod  func(*FrameOptions)
+	}{
+		{"source dirichlet right,top", func(o *FrameOptions) {}},
+		{"source level right,top", func(o *FrameOptions) { o.Solve.LevelOnly = true }},
+		{"source dirichlet top", func(o *FrameOptions) { o.Solve.Dirichlet = Top }},
+		{"zero dirichlet right,top", func(o *FrameOptions) { o.Reference = Constant }},
+		{"lagrangian source right,top", func(o *FrameOptions) { o.Accel.Method = Lagrangian }},
+	} {
+		opt := cfdOptions()
+		tc.mod(&opt)
+		ts, P, _ := cfdRun(t, frames, opt)
+		sc := scoreCFD(t, ts, P)
+		t.Logf("%s: RMS %.2f%% of peak %.4g N; impulse %.4g vs %.4g N s (error %.2f%% of total %.4g); ramp-up %.4g vs %.4g; ramp-down %.4g vs %.4g",
+			tc.name, 100*sc.rms/sc.peak, sc.peak, sc.impulse, sc.impulseTrue, 100*math.Abs(sc.impulse-sc.impulseTrue)/sc.total, sc.total,
+			sc.up, sc.upTrue, sc.down, sc.downTrue)
+	}
+	_ = analytic.Water
+}

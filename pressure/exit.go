@@ -1,0 +1,262 @@
+package pressure
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/wakekit/wakekit/piv"
+)
+
+// Exit describes a nozzle exit plane: the plane x = X, the inner radius (slot half-width for a
+// planar jet) Radius, and the axis (centre line) y = Axis.
+type Exit struct {
+	X, Radius, Axis float64
+}
+
+// Check verifies that the exit can be evaluated on grid g: a positive radius, the plane within
+// one grid spacing of the field's x extent, and rows of data inside the radius.
+func (e Exit) Check(g piv.Grid) error {
+	if !(e.Radius > 0) || math.IsInf(e.Radius, 0) {
+		return fmt.Errorf("nozzle radius %g m must be positive", e.Radius)
+	}
+	if !isFinite(e.X) || !isFinite(e.Axis) {
+		return fmt.Errorf("exit plane x = %g m, axis y = %g m must be finite", e.X, e.Axis)
+	}
+	if e.X < g.X0-g.DX*(1+1e-9) || e.X > g.XMax()+g.DX*(1+1e-9) {
+		return fmt.Errorf("exit plane x = %g m is outside the field (x from %g to %g m, at most one spacing %g m beyond it)",
+			e.X, g.X0, g.XMax(), g.DX)
+	}
+	rows := 0
+	for j := 0; j < g.NY; j++ {
+		if math.Abs(g.Y(j)-e.Axis) < e.Radius {
+			rows++
+		}
+	}
+	if rows == 0 {
+		return fmt.Errorf("no row of the field (y from %g to %g m) lies inside the nozzle radius %g m about y = %g m",
+			g.Y0, g.YMax(), e.Radius, e.Axis)
+	}
+	return nil
+}
+
+// ExitForces are the forces on the fluid at the nozzle exit for one frame.
+type ExitForces struct {
+	Time float64 // frame time [s]
+	// M is the momentum flux 2πρ∫u² r dr [N] (planar: ρ∫u² dy per unit depth [N/m]).
+	M float64
+	// P is the pressure force 2π∫(p − p∞) r dr [N] (planar: ∫(p − p∞) dy [N/m]).
+	P float64
+	// Sum is M + P, the thrust contribution of the exit plane.
+	Sum float64
+	// Q is the volume flux 2π∫u r dr [m^3/s] (planar: ∫u dy [m^2/s]).
+	Q float64
+	// Column is the grid column the profiles come from and Carried the distance X − x_column
+	// [m] over which they were carried to the exit plane with the known gradients.
+	Column  int
+	Carried float64
+	// Y, PExit and UExit are the exit profiles at the rows inside the radius.
+	Y, PExit, UExit []float64
+	// Missing counts rows inside the radius without data; the forces are NaN when it is not 0.
+	Missing int
+}
+
+// ExitProfile evaluates the exit-plane profiles and forces of field f with pressure p and
+// pressure gradient x-component gx. The exit plane need not coincide with a grid column: the
+// pressure of the nearest column is carried to X by the trapezoidal integral of ∂p/∂x (linearly
+// extrapolated from that column and its inner neighbour), and the velocity is extrapolated
+// linearly from the same two columns. The radial integrals use each row's cell (one spacing
+// wide, cut at the axis and at the radius) weighted by r in axisymmetric geometry; with rows
+// on both sides of the axis the two halves are averaged. pInf is the reference pressure.
+func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*ExitForces, error) {
+	g := f.Grid
+	if err := e.Check(g); err != nil {
+		return nil, err
+	}
+	i := int(math.Round((e.X - g.X0) / g.DX))
+	if i < 0 {
+		i = 0
+	}
+	if i > g.NX-1 {
+		i = g.NX - 1
+	}
+	inner := i + 1 // neighbour column used for extrapolation, towards the field
+	if e.X > g.X(i) || inner >= g.NX {
+		inner = i - 1
+	}
+	d := e.X - g.X(i)
+	ex := &ExitForces{Time: f.Time, Column: i, Carried: d}
+	axi := f.Geometry.Axisymmetric
+	var sideUp, sideDown bool
+	for j := 0; j < g.NY; j++ {
+		r := g.Y(j) - e.Axis
+		if math.Abs(r) >= e.Radius+g.DY/2 {
+			continue
+		}
+		w := rowWeight(r, g.DY, e.Radius, axi)
+		if w == 0 {
+			continue
+		}
+		k := g.Index(i, j)
+		pe, ue := p[k], f.U[k]
+		if !f.Valid(k) {
+			ue = math.NaN()
+		}
+		if d != 0 {
+			if inner >= 0 && inner < g.NX {
+				kn := g.Index(inner, j)
+				slopeG := (gx[kn] - gx[k]) / (g.X(inner) - g.X(i))
+				gE := gx[k] + d*slopeG
+				pe += d * (gx[k] + gE) / 2
+				ue += d * (f.U[kn] - f.U[k]) / (g.X(inner) - g.X(i))
+			} else {
+				pe += d * gx[k]
+			}
+		}
+		if math.Abs(r) < e.Radius {
+			ex.Y = append(ex.Y, g.Y(j))
+			ex.PExit = append(ex.PExit, pe)
+			ex.UExit = append(ex.UExit, ue)
+		}
+		if math.IsNaN(pe) || math.IsNaN(ue) {
+			ex.Missing++
+			continue
+		}
+		if r > 1e-9*g.DY {
+			sideUp = true
+		} else if r < -1e-9*g.DY {
+			sideDown = true
+		} else {
+			sideUp, sideDown = true, true
+		}
+		ex.P += w * (pe - pInf)
+		ex.M += w * rho * ue * ue
+		ex.Q += w * ue
+	}
+	sides := 1.0
+	if sideUp && sideDown {
+		sides = 2
+	}
+	factor := 2 / sides // planar: the other half of the slot mirrors the measured one
+	if axi {
+		factor = 2 * math.Pi / sides
+	}
+	ex.P *= factor
+	ex.M *= factor
+	ex.Q *= factor
+	if ex.Missing > 0 {
+		ex.P, ex.M, ex.Q = math.NaN(), math.NaN(), math.NaN()
+	}
+	ex.Sum = ex.M + ex.P
+	return ex, nil
+}
+
+// rowWeight returns ∫ over the row's cell [r − dy/2, r + dy/2] ∩ (−R, R) of |r| dr
+// (axisymmetric) or of dr (planar), counting only the half-line on the row's side of the axis
+// so that each half of a full section integrates the whole exit.
+func rowWeight(r, dy, R float64, axi bool) float64 {
+	a, b := r-dy/2, r+dy/2
+	if r >= 0 {
+		a = math.Max(a, 0)
+		b = math.Min(b, R)
+	} else {
+		a = math.Max(a, -R)
+		b = math.Min(b, 0)
+	}
+	if b <= a {
+		return 0
+	}
+	if axi {
+		return absIntegral(a, b)
+	}
+	return b - a
+}
+
+// ExitFlux returns the volume flux through the exit of field f: 2π∫u r dr (planar ∫u dy) with
+// the velocity carried to the exit plane as in ExitProfile. It is the source strength of the
+// far-field reference model.
+func ExitFlux(f *piv.Field, e Exit) (float64, error) {
+	zero := make([]float64, f.Grid.N())
+	ex, err := ExitProfile(f, zero, zero, e, 1, 0)
+	if err != nil {
+		return 0, err
+	}
+	return ex.Q, nil
+}
+
+// TimeIntegral returns the trapezoidal integral of the samples (t_m, f_m) over [t0, t1],
+// interpolating linearly at the ends; samples with NaN values are skipped. Times must increase.
+func TimeIntegral(t, f []float64, t0, t1 float64) float64 {
+	sum := 0.0
+	prevT, prevF, have := 0.0, 0.0, false
+	for m := range t {
+		if math.IsNaN(f[m]) {
+			continue
+		}
+		if have {
+			a, b := math.Max(prevT, t0), math.Min(t[m], t1)
+			if b > a {
+				fa := prevF + (f[m]-prevF)*(a-prevT)/(t[m]-prevT)
+				fb := prevF + (f[m]-prevF)*(b-prevT)/(t[m]-prevT)
+				sum += (b - a) * (fa + fb) / 2
+			}
+		}
+		prevT, prevF, have = t[m], f[m], true
+	}
+	return sum
+}
+
+// Pulse is one pulse of the exit program, as frame times: the flux rises above a threshold at
+// Start and falls below it at End; the acceleration phase ends at the first frame after which
+// the flux stops rising markedly (AccelEnd) and the deceleration phase starts at DecelStart.
+type Pulse struct {
+	Start, AccelEnd, DecelStart, End float64
+}
+
+// Pulses finds the pulses of an exit-flux history Q(t): runs where Q exceeds 5% of its peak
+// (common practice for a start/stop threshold). Within a pulse the acceleration phase is where
+// Q is below 95% of the pulse's peak before the peak, the deceleration phase the same after it.
+func Pulses(t, q []float64) []Pulse {
+	peak := 0.0
+	for _, v := range q {
+		if !math.IsNaN(v) {
+			peak = math.Max(peak, v)
+		}
+	}
+	if peak <= 0 {
+		return nil
+	}
+	var out []Pulse
+	on := false
+	start := 0
+	for m := 0; m <= len(q); m++ {
+		above := m < len(q) && q[m] > 0.05*peak
+		if above && !on {
+			on, start = true, m
+		}
+		if !above && on {
+			on = false
+			end := m - 1
+			pk, ipk := 0.0, start
+			for a := start; a <= end; a++ {
+				if q[a] > pk {
+					pk, ipk = q[a], a
+				}
+			}
+			p := Pulse{Start: t[start], End: t[end], AccelEnd: t[ipk], DecelStart: t[ipk]}
+			for a := start; a <= ipk; a++ {
+				if q[a] >= 0.95*pk {
+					p.AccelEnd = t[a]
+					break
+				}
+			}
+			for a := end; a >= ipk; a-- {
+				if q[a] >= 0.95*pk {
+					p.DecelStart = t[a]
+					break
+				}
+			}
+			out = append(out, p)
+		}
+	}
+	return out
+}

@@ -1,0 +1,195 @@
+package pressure
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"github.com/wakekit/wakekit/piv"
+)
+
+// Reference names the model of the pressure on the reference (Dirichlet) edges.
+type Reference int
+
+const (
+	// Constant prescribes p = p∞ on the reference edges.
+	Constant Reference = iota
+	// Source prescribes the unsteady Bernoulli pressure of the irrotational far field of a
+	// starting jet: the nozzle acts as a point volume source of the measured exit flux Q(t), so
+	// the potential is φ = −Q/(4π d) at distance d from the centre of the exit, and
+	//
+	//	p = p∞ − ρ ∂φ/∂t − ρ|u|²/2 = p∞ + ρ Q̇/(4π d) − ρ|u|²/2
+	//
+	// with |u| the measured velocity at the edge node and Q̇ the time derivative of the
+	// measured exit flux (same time stencil as the acceleration). The edges must lie in
+	// irrotational fluid. Axisymmetric geometry only: the planar source potential is
+	// logarithmic and fixes no level.
+	Source
+)
+
+// ParseReference reads "zero" (or "constant") or "source".
+func ParseReference(s string) (Reference, error) {
+	switch s {
+	case "zero", "constant", "":
+		return Constant, nil
+	case "source":
+		return Source, nil
+	}
+	return 0, fmt.Errorf("unknown reference model %q (expected zero or source)", s)
+}
+
+// String returns the model's name.
+func (r Reference) String() string {
+	if r == Source {
+		return "source"
+	}
+	return "zero"
+}
+
+// FrameOptions configures the reconstruction of one frame's pressure.
+type FrameOptions struct {
+	Accel AccelOptions
+	Fluid Fluid
+	// Solve configures the integration (solver, Dirichlet edges, level, tolerance).
+	Solve Options
+	// Reference selects the value model on the Dirichlet edges.
+	Reference Reference
+	// Exit, when set, gives the nozzle exit for the exit forces and the source model.
+	Exit *Exit
+	// Solid marks nodes inside it as solid in every frame (the nozzle wall); nil for none.
+	Solid piv.Shape
+}
+
+// FrameResult is the pressure reconstruction of one frame.
+type FrameResult struct {
+	Field  *piv.Field // the frame (with the solid mask applied)
+	AX, AY []float64  // material acceleration [m/s^2]
+	GX, GY []float64  // pressure gradient [Pa/m]
+	*Result
+	// Exit holds the exit forces when FrameOptions.Exit is set.
+	Exit *ExitForces
+	// QDot is the rate of change of the exit flux used by the source model [m^3/s^2].
+	QDot float64
+}
+
+// Nozzle is the wall of a round nozzle (or a planar slot) ending at the exit plane x = X: the
+// nodes with x <= X and RIn <= |y − Axis| <= ROut. It implements piv.Shape.
+type Nozzle struct {
+	X, RIn, ROut, Axis float64
+}
+
+// Contains implements piv.Shape.
+func (n Nozzle) Contains(x, y float64) bool {
+	r := math.Abs(y - n.Axis)
+	return x <= n.X && r >= n.RIn && r <= n.ROut
+}
+
+// maskedFrames applies a solid shape to every frame read through it (on a copy).
+type maskedFrames struct {
+	Frames
+	solid piv.Shape
+}
+
+func (m maskedFrames) Frame(k int) (*piv.Field, error) {
+	f, err := m.Frames.Frame(k)
+	if err != nil {
+		return nil, err
+	}
+	c := f.Clone()
+	c.MaskSolid(m.solid)
+	return c, nil
+}
+
+// Reconstruct computes the pressure of frame k of fr: material acceleration, pressure gradient
+// from the momentum balance, integration with the chosen solver and boundary model, and the
+// exit forces when an exit is given. It reads only the frames the acceleration method needs
+// around k, so it runs as a stage of the frame pipeline.
+func Reconstruct(fr Frames, k int, opt FrameOptions) (*FrameResult, error) {
+	if err := opt.Fluid.Validate(); err != nil {
+		return nil, err
+	}
+	if opt.Solid != nil {
+		fr = maskedFrames{fr, opt.Solid}
+	}
+	f, ax, ay, err := Acceleration(fr, k, opt.Accel)
+	if err != nil {
+		return nil, err
+	}
+	if opt.Exit != nil {
+		if err := opt.Exit.Check(f.Grid); err != nil {
+			return nil, fmt.Errorf("%s: %w", f.Name(), err)
+		}
+	}
+	gx, gy := Gradient(f, ax, ay, opt.Fluid, opt.Accel.Scheme)
+	so := opt.Solve
+	out := &FrameResult{Field: f, AX: ax, AY: ay, GX: gx, GY: gy}
+	if opt.Reference == Source {
+		if opt.Exit == nil {
+			return nil, errors.New("the source reference model needs the nozzle exit (plane, radius)")
+		}
+		if !f.Geometry.Axisymmetric {
+			return nil, errors.New("the source reference model needs axisymmetric geometry (--axisymmetric)")
+		}
+		if so.Dirichlet == 0 {
+			return nil, errors.New("the source reference model needs reference edges (for instance right,top)")
+		}
+		qdot, err := exitFluxRate(fr, k, f, *opt.Exit, opt.Accel)
+		if err != nil {
+			return nil, err
+		}
+		out.QDot = qdot
+		g := f.Grid
+		ex := *opt.Exit
+		rho, pInf := opt.Fluid.Rho, so.PInf
+		so.Boundary = func(i, j int) float64 {
+			q := g.Index(i, j)
+			dx, dr := g.X(i)-ex.X, g.Y(j)-ex.Axis
+			d := math.Hypot(dx, dr)
+			u, v := f.U[q], f.V[q]
+			return pInf + rho*qdot/(4*math.Pi*d) - rho*(u*u+v*v)/2
+		}
+	}
+	res, err := Integrate(f.Grid, f.Geometry, gx, gy, so)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", f.Name(), err)
+	}
+	out.Result = res
+	if opt.Exit != nil {
+		ef, err := ExitProfile(f, res.P, gx, *opt.Exit, opt.Fluid.Rho, so.PInf)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", f.Name(), err)
+		}
+		out.Exit = ef
+	}
+	return out, nil
+}
+
+// exitFluxRate returns dQ/dt at frame k from the exit fluxes of the frames of the time stencil
+// (the rest state has Q = 0). For the steady method it is zero.
+func exitFluxRate(fr Frames, k int, f *piv.Field, e Exit, opt AccelOptions) (float64, error) {
+	if opt.Method == Steady || fr.Len() < 2 && !opt.Rest {
+		return 0, nil
+	}
+	idx, w, err := timeStencil(fr, k, opt)
+	if err != nil {
+		return 0, err
+	}
+	sum := 0.0
+	for a, m := range idx {
+		if m < 0 {
+			continue
+		}
+		fm := f
+		if m != k {
+			if fm, err = frameAt(fr, m, f); err != nil {
+				return 0, err
+			}
+		}
+		q, err := ExitFlux(fm, e)
+		if err != nil {
+			return 0, err
+		}
+		sum += w[a] * q
+	}
+	return sum, nil
+}
