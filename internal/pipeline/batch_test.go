@@ -74,8 +74,16 @@ func writeInputs(t testing.TB, dir string, n, nodes int) *piv.Series {
 
 func openInputs(t testing.TB, names []string, times []float64, nodes int) *piv.Series {
 	t.Helper()
+	s, err := loadInputs(names, times, nodes)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s
+}
+
+func loadInputs(names []string, times []float64, nodes int) (*piv.Series, error) {
 	g := piv.Grid{NX: nodes, NY: 1, DX: 1, DY: 1}
-	s, err := piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
+	return piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
 		data, err := os.ReadFile(names[k])
 		if err != nil {
 			return nil, err
@@ -93,10 +101,6 @@ func openInputs(t testing.TB, names []string, times []float64, nodes int) *piv.S
 		}
 		return f, nil
 	})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return s
 }
 
 // testStage is the per-frame work: du/dt by central differences (one-sided at the ends).
