@@ -9,6 +9,9 @@ import (
 type BudgetRecord struct {
 	Exit ExitSample
 	View BudgetView
+	// PressureA is the exit-plane pressure force 2 pi int (p - p_inf) r dr over the nozzle from a
+	// reconstructed pressure field (route (a)) [N], or NaN when no pressure was reconstructed.
+	PressureA float64
 }
 
 // BudgetSeries holds the per-frame histories of a jet in SI units, the measured ones and those
@@ -32,6 +35,7 @@ type BudgetSeries struct {
 	Slug       []float64 // slug-model circulation (1/2) int U0^2 dt [m^2/s]
 	Delivered  []float64 // int of the vorticity flux [m^2/s]
 	Force      []float64 // dI/dt [N]
+	PressureA  []float64 // over-pressure force by route (a), the reconstructed exit pressure [N]
 	PressureB  []float64 // over-pressure force by route (b): dI/dt - F_m - F_out - P_out [N]
 }
 
@@ -68,6 +72,7 @@ func BudgetHistories(recs []BudgetRecord, c ExitConfig, smooth int) BudgetSeries
 	s.RingR = col(func(r BudgetRecord) float64 { return r.View.RingR })
 	s.CoreR = col(func(r BudgetRecord) float64 { return r.View.CoreR })
 	s.CoreRadius = col(func(r BudgetRecord) float64 { return r.View.CoreRadius })
+	s.PressureA = col(func(r BudgetRecord) float64 { return r.PressureA })
 	s.Stroke = BudgetCumulative(s.T, s.U0)
 	s.TStar = make([]float64, n)
 	for k := range s.TStar {
@@ -149,6 +154,15 @@ type BudgetPulse struct {
 	PeakRatioB        float64 // PeakPressureB / PeakMomentumFlux
 	OverPressureShare float64 // PressureWindowB / (MomentumWindow + PressureWindowB)
 	PeakForce         float64 // largest dI/dt in the window [N]
+	// Route (a), from the reconstructed exit pressure; all NaN when no pressure was given.
+	PressureImpulseA float64    // over the pulse [N s]
+	PressureWindowA  float64    // over the window [N s]
+	PhaseImpulseA    [3]float64 // acceleration, hold, deceleration [N s]
+	PeakPressureA    float64    // largest over-pressure force in the acceleration phase [N]
+	PeakRatioA       float64    // PeakPressureA / PeakMomentumFlux
+	// RouteGap is (route b - route a) pressure impulse over the window as a share of the total
+	// exit impulse int (F_m + P_a) dt: how far the two routes agree.
+	RouteGap float64
 	// Ring kinematics at the window end.
 	RingX     float64 // axial position [m]
 	RingR     float64 // ring impulse radius [m]
@@ -240,6 +254,25 @@ func BudgetPulses(s BudgetSeries, pulses []Pulse, c ExitConfig, axisymmetric boo
 		}
 		b.PeakRatioB = b.PeakPressureB / b.PeakMomentumFlux
 		b.OverPressureShare = b.PressureWindowB / (b.MomentumWindow + b.PressureWindowB)
+		b.PressureImpulseA, b.PressureWindowA, b.PeakPressureA = nan, nan, nan
+		b.PeakRatioA, b.RouteGap = nan, nan
+		b.PhaseImpulseA = [3]float64{nan, nan, nan}
+		if hasValue(s.PressureA) {
+			b.PressureImpulseA = BudgetIntegral(s.T, s.PressureA, a0, e)
+			b.PressureWindowA = BudgetIntegral(s.T, s.PressureA, a0, w)
+			for q := 0; q < 3; q++ {
+				b.PhaseImpulseA[q] = BudgetIntegral(s.T, s.PressureA, phases[q], phases[q+1])
+			}
+			for k, t := range s.T {
+				if t >= a0 && t <= p.AccelEnd && !math.IsNaN(s.PressureA[k]) && !(s.PressureA[k] <= b.PeakPressureA) {
+					b.PeakPressureA = s.PressureA[k]
+				}
+			}
+			b.PeakRatioA = b.PeakPressureA / b.PeakMomentumFlux
+			b.RouteGap = (b.PressureWindowB - b.PressureWindowA) / (b.MomentumWindow + b.PressureWindowA)
+			// The reconstructed pressure is the direct measurement; it sets the share when present.
+			b.OverPressureShare = b.PressureWindowA / (b.MomentumWindow + b.PressureWindowA)
+		}
 		b.RingX = at(s.T, s.RingX, w)
 		b.RingR = at(s.T, s.RingR, w)
 		b.CoreR = at(s.T, s.CoreR, w)
@@ -274,4 +307,13 @@ func ringSpeed(t, x []float64, e, w float64) float64 {
 		return math.NaN()
 	}
 	return (n*stx - st*sx) / d
+}
+
+func hasValue(x []float64) bool {
+	for _, v := range x {
+		if !math.IsNaN(v) {
+			return true
+		}
+	}
+	return false
 }

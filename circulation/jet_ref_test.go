@@ -68,7 +68,7 @@ func refRecords(t testing.TB) []BudgetRecord {
 		if err != nil {
 			t.Fatal(err)
 		}
-		recs[k] = BudgetRecord{Exit: ex, View: v}
+		recs[k] = BudgetRecord{Exit: ex, View: v, PressureA: math.NaN()}
 	}
 	return recs
 }

@@ -59,7 +59,7 @@ func TestSlugModelKnownProgram(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		recs = append(recs, BudgetRecord{Exit: ex, View: BudgetView{Gamma: 0, Impulse: 0}})
+		recs = append(recs, BudgetRecord{Exit: ex, View: BudgetView{Gamma: 0, Impulse: 0}, PressureA: math.NaN()})
 	}
 	s := BudgetHistories(recs, cfg, 0)
 	pulses := PulseDetect(s.T, s.U0, 0)
