@@ -1,0 +1,46 @@
+package piv
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/stat"
+)
+
+// Summarize against gonum (reference library): mean, min and max of the valid values.
+func TestSummarize(t *testing.T) {
+	f, _ := randomField(31, 17)
+	s := Summarize(f)
+	var us, vs, sp []float64
+	for k := range f.U {
+		if f.Valid(k) {
+			us = append(us, f.U[k])
+			vs = append(vs, f.V[k])
+			sp = append(sp, math.Hypot(f.U[k], f.V[k]))
+		}
+	}
+	// Tolerance: summation order differs from gonum's, round-off of a few ulps per term.
+	tol := 1e-12
+	if s.Measured+s.Replaced != len(us) || s.Measured+s.Replaced+s.Missing+s.Solid != f.Grid.N() ||
+		math.Abs(s.ValidShare-float64(len(us))/float64(f.Grid.N())) > 1e-15 {
+		t.Errorf("counts %+v for %d valid", s, len(us))
+	}
+	check := func(name string, got, want float64) {
+		if math.Abs(got-want) > tol*math.Max(1, math.Abs(want)) {
+			t.Errorf("%s = %v, gonum gives %v", name, got, want)
+		}
+	}
+	check("UMean", s.UMean, stat.Mean(us, nil))
+	check("VMean", s.VMean, stat.Mean(vs, nil))
+	check("UMin", s.UMin, floats.Min(us))
+	check("UMax", s.UMax, floats.Max(us))
+	check("VMin", s.VMin, floats.Min(vs))
+	check("SpeedMax", s.SpeedMax, floats.Max(sp))
+	check("SpeedMean", s.SpeedMean, stat.Mean(sp, nil))
+	check("URMS", s.URMS, floats.Norm(sp, 2)/math.Sqrt(float64(len(sp))))
+	empty := Summarize(NewField(Grid{NX: 2, NY: 2, DX: 1, DY: 1}))
+	if empty.ValidShare != 0 || !math.IsNaN(empty.UMean) || empty.Missing != 4 {
+		t.Errorf("empty field %+v", empty)
+	}
+}
