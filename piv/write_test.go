@@ -269,4 +269,3 @@ func BenchmarkWriteCSV(b *testing.B) {
 type countWriter int64
 
 func (c *countWriter) Write(p []byte) (int, error) { *c += countWriter(len(p)); return len(p), nil }
-
