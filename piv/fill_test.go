@@ -1,0 +1,178 @@
+package piv
+
+import (
+	"math"
+	"testing"
+)
+
+// linearField is u = 1 + 2x − 3y, v = −0.5 + 0.25x + 4y on a 30×24 grid.
+func linearField() *Field {
+	g := Grid{NX: 30, NY: 24, X0: -0.1, Y0: 0.2, DX: 0.01, DY: 0.0125}
+	f := NewField(g)
+	for j := 0; j < g.NY; j++ {
+		for i := 0; i < g.NX; i++ {
+			x, y := g.X(i), g.Y(j)
+			f.Set(g.Index(i, j), 1+2*x-3*y, -0.5+0.25*x+4*y)
+		}
+	}
+	return f
+}
+
+func punch(f *Field, i0, j0, i1, j1 int) []int {
+	var ks []int
+	for j := j0; j <= j1; j++ {
+		for i := i0; i <= i1; i++ {
+			k := f.Grid.Index(i, j)
+			reject(f, k, RejectedMedian)
+			ks = append(ks, k)
+		}
+	}
+	return ks
+}
+
+func TestLaplaceFillLinearExact(t *testing.T) {
+	// A linear function is discretely harmonic (the five-point Laplacian of x and y is zero),
+	// so the Laplace fill of an enclosed gap must return it to round-off (exact solution of
+	// the discrete Dirichlet problem).
+	want := linearField()
+	f := want.Clone()
+	holes := punch(f, 5, 4, 12, 9)                     // 8x6 rectangle
+	holes = append(holes, punch(f, 20, 10, 20, 18)...) // thin vertical slit
+	holes = append(holes, punch(f, 21, 14, 24, 14)...) // joined to it: an L-shaped gap
+	c, err := Fill(f, FillOptions{Method: FillLaplace})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Filled != len(holes) || c.LeftMissing != 0 || c.Gaps != 2 {
+		t.Fatalf("counts %+v, want %d filled in 2 gaps", c, len(holes))
+	}
+	worst := 0.0
+	for _, k := range holes {
+		if s := f.Status[k]; s.Kind() != Replaced || s&RejectedMedian == 0 {
+			t.Fatalf("node %d status %v, want replaced:median", k, s)
+		}
+		worst = math.Max(worst, math.Max(math.Abs(f.U[k]-want.U[k]), math.Abs(f.V[k]-want.V[k])))
+	}
+	t.Logf("Laplace fill of a linear field: largest error %.2e m/s", worst)
+	// Round-off: the solver stops at a relative residual of 1e-12 on values of order 1.
+	if worst > 1e-11 {
+		t.Fatalf("linear field filled with error %g", worst)
+	}
+}
+
+func TestLaplaceFillLambOseen(t *testing.T) {
+	// Error bound from the discrete maximum principle: the fill error e satisfies Δh e = −Δh u
+	// in the gap and e = 0 on its boundary, so with M = max |Δh u| over the gap and a the
+	// gap's half-width (to the boundary nodes, in x), the comparison function M(a² − (x−xc)²)/2
+	// bounds it: |e| ≤ M a²/2 (e.g. Morton & Mayers, Numerical Solution of PDEs, §6.5).
+	want, peak := vortexField()
+	g := want.Grid
+	f := want.Clone()
+	// A 5x5 gap near the core radius, to the right of the centre.
+	i0, j0 := 37, 30
+	holes := punch(f, i0, j0, i0+4, j0+4)
+	if _, err := Fill(f, FillOptions{Method: FillLaplace}); err != nil {
+		t.Fatal(err)
+	}
+	lap := func(s []float64, k int) float64 {
+		return (s[k-1]+s[k+1]-2*s[k])/(g.DX*g.DX) + (s[k-g.NX]+s[k+g.NX]-2*s[k])/(g.DY*g.DY)
+	}
+	var worst, M float64
+	for _, k := range holes {
+		M = math.Max(M, math.Max(math.Abs(lap(want.U, k)), math.Abs(lap(want.V, k))))
+		worst = math.Max(worst, math.Max(math.Abs(f.U[k]-want.U[k]), math.Abs(f.V[k]-want.V[k])))
+	}
+	a := 3 * g.DX
+	bound := M * a * a / 2
+	t.Logf("Laplace fill of a 5x5 gap in a Lamb–Oseen vortex: largest error %.3g px/frame (%.2f%% of the peak swirl), bound %.3g",
+		worst, 100*worst/peak, bound)
+	if worst > bound || worst == 0 {
+		t.Fatalf("fill error %g exceeds the maximum-principle bound %g", worst, bound)
+	}
+}
+
+func TestFillMedianAndLimits(t *testing.T) {
+	want := linearField()
+	f := want.Clone()
+	g := f.Grid
+	// Isolated missing nodes: the eight neighbours of a linear field come in pairs symmetric
+	// about the centre value, so their median is the centre value (property of the median).
+	singles := []int{g.Index(3, 3), g.Index(10, 7), g.Index(25, 20)}
+	for _, k := range singles {
+		reject(f, k, RejectedStd)
+	}
+	big := punch(f, 14, 2, 18, 6) // 25 nodes
+	f.Status[g.Index(0, 0)] = Solid
+	f.U[g.Index(0, 0)], f.V[g.Index(0, 0)] = math.NaN(), math.NaN()
+	c, err := Fill(f, FillOptions{Method: FillMedian, MaxGap: 24})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Filled != len(singles) || c.TooLarge != 1 || c.LeftMissing != len(big) {
+		t.Fatalf("counts %+v", c)
+	}
+	for _, k := range singles {
+		if math.Abs(f.U[k]-want.U[k]) > 1e-14 || math.Abs(f.V[k]-want.V[k]) > 1e-14 || f.Status[k].Kind() != Replaced {
+			t.Fatalf("node %d: (%g, %g) %v, want (%g, %g)", k, f.U[k], f.V[k], f.Status[k], want.U[k], want.V[k])
+		}
+	}
+	for _, k := range big {
+		if f.Status[k].Kind() != Missing || !math.IsNaN(f.U[k]) {
+			t.Fatalf("node %d of the oversized gap was filled", k)
+		}
+	}
+	if f.Status[g.Index(0, 0)] != Solid || !math.IsNaN(f.U[0]) {
+		t.Fatal("solid node changed")
+	}
+	// The median method fills a larger gap from its edge inward when allowed.
+	c, err = Fill(f, FillOptions{Method: FillMedian})
+	if err != nil || c.Filled != len(big) || c.LeftMissing != 0 {
+		t.Fatalf("second pass: %+v, %v", c, err)
+	}
+	if _, err := Fill(f, FillOptions{MaxGap: -1}); err == nil {
+		t.Fatal("negative gap size accepted")
+	}
+}
+
+func TestLaplaceFillNextToSolidAndEdge(t *testing.T) {
+	// A gap walled in by solid nodes on one side and the grid edge on another: filled (Neumann
+	// there), values within the range of the valid neighbours (discrete maximum principle),
+	// solid untouched. A gap enclosed only by solid nodes stays missing.
+	f := linearField()
+	g := f.Grid
+	for j := 0; j < g.NY; j++ {
+		k := g.Index(6, j)
+		f.Status[k] = Solid
+	}
+	f.Normalize()
+	holes := punch(f, 0, 3, 5, 6)
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, k := range holes {
+		for _, q := range neighbours(g, k) {
+			if q >= 0 && f.Valid(q) {
+				lo, hi = math.Min(lo, f.U[q]), math.Max(hi, f.U[q])
+			}
+		}
+	}
+	box := NewField(Grid{NX: 3, NY: 3, DX: 1, DY: 1})
+	for k := range box.Status {
+		box.Status[k] = Solid
+	}
+	box.Status[4] = Missing
+	if c, err := Fill(box, FillOptions{}); err != nil || c.Filled != 0 || c.LeftMissing != 1 {
+		t.Fatalf("enclosed gap: %+v, %v", c, err)
+	}
+	if _, err := Fill(f, FillOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range holes {
+		if f.Status[k].Kind() != Replaced || f.U[k] < lo-1e-12 || f.U[k] > hi+1e-12 {
+			t.Fatalf("node %d: %v u = %g outside [%g, %g]", k, f.Status[k], f.U[k], lo, hi)
+		}
+	}
+	for j := 0; j < g.NY; j++ {
+		if f.Status[g.Index(6, j)] != Solid {
+			t.Fatal("solid node filled")
+		}
+	}
+}
