@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"github.com/spf13/pflag"
+	"github.com/wakekit/wakekit/internal/pipeline"
 	"github.com/wakekit/wakekit/piv"
 )
 
@@ -95,6 +96,8 @@ type runFlags struct {
 	out     string
 	quiet   bool
 	workers int
+	resume  bool
+	shard   string
 }
 
 func addRunFlags(fs *pflag.FlagSet) *runFlags {
@@ -102,12 +105,33 @@ func addRunFlags(fs *pflag.FlagSet) *runFlags {
 	fs.StringVarP(&r.out, "out", "o", "", "output folder (default: a new folder beside the first input, named after the command)")
 	fs.BoolVarP(&r.quiet, "quiet", "q", false, "no progress or diagnostics on stderr")
 	fs.IntVar(&r.workers, "workers", runtime.NumCPU(), "frames processed at once")
+	fs.BoolVar(&r.resume, "resume", false, "continue an interrupted run in the same --out folder, skipping frames already done with the same inputs and settings")
+	fs.StringVar(&r.shard, "shard", "", "process only share K of N of the frames (K/N, e.g. 3/8), for cluster job arrays; join the shares with \"wakekit merge\"")
 	return r
+}
+
+// pipelineOptions builds the engine options from the run flags: workers, shard and resume,
+// and the progress line on stderr when stderr is a terminal and --quiet is not given. label
+// starts the progress line (the command name).
+func (r *runFlags) pipelineOptions(e *env, label string) (pipeline.Options, error) {
+	if r.workers < 0 {
+		return pipeline.Options{}, usagef("--workers %d: give the number of frames to process at once (0 or omitted: all cores)", r.workers)
+	}
+	sh, err := pipeline.ParseShard(r.shard)
+	if err != nil {
+		return pipeline.Options{}, usagef("--shard: %v", err)
+	}
+	opt := pipeline.Options{Workers: r.workers, Shard: sh, Resume: r.resume, Label: label}
+	if e.stderrTTY && !r.quiet {
+		opt.Progress = e.stderr
+	}
+	return opt, nil
 }
 
 // outDir returns the output folder for a command, creating it. With no --out it is a folder
 // named after the command beside the first input (wakekit-NAME, or wakekit-NAME-2, ... when
-// that exists).
+// that exists; with --resume the existing wakekit-NAME, and with --shard K/N
+// wakekit-NAME-shard-K-of-N).
 func (r *runFlags) outDir(name string, inputs []string) (string, error) {
 	dir := r.out
 	if dir == "" {
@@ -120,7 +144,11 @@ func (r *runFlags) outDir(name string, inputs []string) (string, error) {
 			}
 		}
 		dir = filepath.Join(base, "wakekit-"+name)
-		for n := 2; ; n++ {
+		if sh, err := pipeline.ParseShard(r.shard); err == nil && !sh.IsAll() {
+			// Every shard of a job array gets its own fixed folder, found again by --resume.
+			dir = filepath.Join(base, fmt.Sprintf("wakekit-%s-shard-%d-of-%d", name, sh.K, sh.N))
+		}
+		for n := 2; !r.resume && r.shard == ""; n++ {
 			if _, err := os.Stat(dir); os.IsNotExist(err) {
 				break
 			}

@@ -412,6 +412,9 @@ func TestMergeRefuses(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "dudt_0004.csv") {
 		t.Errorf("tampered shard output: err = %v", err)
 	}
+	if _, err := os.Stat(filepath.Join(tmp, "m7")); !os.IsNotExist(err) {
+		t.Errorf("failed merge left its output folder behind (%v)", err)
+	}
 }
 
 // A last line cut short by an interruption is not a finished frame; a broken full line is an

@@ -119,19 +119,38 @@ func Merge(out string, dirs []string) (MergeReport, error) {
 			merged.Entries = append(merged.Entries, e)
 		}
 	}
+	_, statErr := os.Stat(out)
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return rep, err
 	}
+	// A merge that fails part-way (a shard file changed since it was recorded) removes what it
+	// wrote, so it leaves no partial result.
+	var written []string
+	undo := func(err error) (MergeReport, error) {
+		for _, p := range written {
+			os.Remove(p)
+		}
+		for _, t := range merged.Header.Tables {
+			os.Remove(filepath.Join(out, t.Name))
+		}
+		os.Remove(filepath.Join(out, ManifestName))
+		if os.IsNotExist(statErr) {
+			os.Remove(out) // only if it is empty again
+		}
+		return MergeReport{}, err
+	}
 	for _, e := range merged.Entries {
 		for _, f := range e.Files {
-			if err := copyChecked(filepath.Join(srcDir[e.Frame], f.Name), filepath.Join(out, f.Name), f); err != nil {
-				return rep, err
+			dst := filepath.Join(out, f.Name)
+			if err := copyChecked(filepath.Join(srcDir[e.Frame], f.Name), dst, f); err != nil {
+				return undo(err)
 			}
+			written = append(written, dst)
 			rep.Files++
 		}
 	}
 	if err := finish(out, merged); err != nil {
-		return rep, err
+		return undo(err)
 	}
 	rep.Command, rep.Shards, rep.Frames = first.Command, len(dirs), first.Frames
 	return rep, nil
