@@ -132,6 +132,13 @@ func (o *synthFlags) run(e *env, fs *pflag.FlagSet, rf *runFlags, args []string)
 	if err := o.noise.Validate(); err != nil {
 		return usagef("%v", err)
 	}
+	if rf.shard != "" || rf.resume {
+		return usagef("--shard and --resume do not apply: synth writes every frame")
+	}
+	popt, err := rf.pipelineOptions(e, "synth")
+	if err != nil {
+		return err
+	}
 	ext := "." + o.format
 	names := make([]string, len(times))
 	for k := range names {
@@ -148,7 +155,7 @@ func (o *synthFlags) run(e *env, fs *pflag.FlagSet, rf *runFlags, args []string)
 		return err
 	}
 	spurious := make([][]int, len(times))
-	_, err = pipeline.Run(context.Background(), series, pipeline.Options{Workers: rf.workers},
+	_, err = pipeline.Run(context.Background(), series, popt,
 		func(ctx context.Context, k int, frames pipeline.Frames) ([]int, error) {
 			f, err := frames.Frame(k)
 			if err != nil {

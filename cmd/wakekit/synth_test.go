@@ -163,7 +163,7 @@ func TestSynthBadUsage(t *testing.T) {
 		{"lamb-oseen", "--core-radius", "0"}, {"lamb-oseen", "--gamma", "0"}, {"lamb-oseen", "--nu", "-1"},
 		{"lamb-oseen", "--nu", "1e-6", "--t0", "-100"}, {"hill", "--drift", "1,0"}, {"hill", "--radius", "-1"},
 		{"pair", "--separation", "0"}, {"taylor-green", "--wavelength", "0"}, {"rotation", "--omega", "0"},
-		{"lamb-oseen", "--origin", "1"}, {"lamb-oseen", "--rho", "0"},
+		{"lamb-oseen", "--origin", "1"}, {"lamb-oseen", "--rho", "0"}, {"lamb-oseen", "--shard", "1/2"},
 	}
 	for _, c := range cases {
 		dir := filepath.Join(t.TempDir(), "out")
