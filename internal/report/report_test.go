@@ -2,8 +2,8 @@ package report
 
 import (
 	"bytes"
-	"html"
 	"encoding/base64"
+	"html"
 	"image/png"
 	"math"
 	"regexp"
