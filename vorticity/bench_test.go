@@ -7,14 +7,22 @@ import (
 	"github.com/wakekit/wakekit/piv/analytic"
 )
 
-// benchField is a 2048 x 2048 Lamb–Oseen field with 1% missing nodes, so the fallback path is
-// exercised as in measured data.
-func benchField(b *testing.B) *piv.Field {
+// benchFields are 2048 x 2048 Lamb–Oseen fields: complete ("clean", as after gap filling) and
+// with 1% of the nodes missing at random ("holes", as raw measured data), which sends about 5%
+// of the nodes through the fallback path.
+func benchFields(b *testing.B) []struct {
+	name string
+	f    *piv.Field
+} {
 	b.Helper()
 	g := squareGrid(2048, 0.0001)
-	f := analytic.Sample(lambOseen, g, 0)
-	maskRandom(f, 0.01, 5)
-	return f
+	clean := analytic.Sample(lambOseen, g, 0)
+	holes := clean.Clone()
+	maskRandom(holes, 0.01, 5)
+	return []struct {
+		name string
+		f    *piv.Field
+	}{{"clean", clean}, {"holes", holes}}
 }
 
 func perNode(b *testing.B, n int) {
@@ -23,55 +31,76 @@ func perNode(b *testing.B, n int) {
 
 // BenchmarkVorticity measures VorticityTo per scheme (no allocation).
 func BenchmarkVorticity(b *testing.B) {
-	f := benchField(b)
-	dst := make([]float64, f.Grid.N())
-	for _, sc := range Schemes {
-		b.Run(sc.String(), func(b *testing.B) {
-			b.ReportAllocs()
-			for b.Loop() {
-				VorticityTo(dst, f, sc)
-			}
-			perNode(b, f.Grid.N())
-		})
+	for _, bf := range benchFields(b) {
+		f := bf.f
+		dst := make([]float64, f.Grid.N())
+		for _, sc := range Schemes {
+			b.Run(bf.name+"/"+sc.String(), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					VorticityTo(dst, f, sc)
+				}
+				perNode(b, f.Grid.N())
+			})
+		}
 	}
 }
 
 // BenchmarkDeriv measures Deriv of one scalar per scheme (both directions, stencils recorded).
 func BenchmarkDeriv(b *testing.B) {
-	f := benchField(b)
-	n := f.Grid.N()
-	dx, dy, st := make([]float64, n), make([]float64, n), make([]Stencil, n)
-	for _, sc := range Schemes {
-		b.Run(sc.String(), func(b *testing.B) {
-			b.ReportAllocs()
-			for b.Loop() {
-				Deriv(f.Grid, f.U, sc, dx, dy, st)
-			}
-			perNode(b, n)
-		})
+	for _, bf := range benchFields(b) {
+		f := bf.f
+		n := f.Grid.N()
+		dx, dy, st := make([]float64, n), make([]float64, n), make([]Stencil, n)
+		for _, sc := range Schemes {
+			b.Run(bf.name+"/"+sc.String(), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					Deriv(f.Grid, f.U, sc, dx, dy, st)
+				}
+				perNode(b, n)
+			})
+		}
 	}
 }
 
 // BenchmarkDeriveSet measures the full derive set per scheme: the gradient tensor, vorticity,
-// Q, lambda2 and signed swirl, output slices included.
+// Q, lambda2 and signed swirl. "fresh" allocates every output as NewGradient and the methods
+// do; "reuse" keeps one Gradient and the output slices, as a worker processing many frames of
+// one size does (Compute and IntoAll).
 func BenchmarkDeriveSet(b *testing.B) {
-	f := benchField(b)
-	for _, sc := range Schemes {
-		b.Run(sc.String(), func(b *testing.B) {
-			for b.Loop() {
-				gr := NewGradient(f, sc)
-				_ = gr.Vorticity()
-				_ = gr.Q()
-				_ = gr.Lambda2()
-				_ = gr.Swirl(true)
-			}
-			perNode(b, f.Grid.N())
-		})
+	qs := []Quantity{QVorticity, QCriterion, QLambda2, QSignedSwirl}
+	for _, bf := range benchFields(b) {
+		f := bf.f
+		n := f.Grid.N()
+		for _, sc := range Schemes {
+			b.Run(bf.name+"/fresh/"+sc.String(), func(b *testing.B) {
+				for b.Loop() {
+					gr := NewGradient(f, sc)
+					_ = gr.Vorticity()
+					_ = gr.Q()
+					_ = gr.Lambda2()
+					_ = gr.Swirl(true)
+				}
+				perNode(b, n)
+			})
+			b.Run(bf.name+"/reuse/"+sc.String(), func(b *testing.B) {
+				b.ReportAllocs()
+				var gr Gradient
+				dst := [][]float64{make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)}
+				gr.Compute(f, sc)
+				for b.Loop() {
+					gr.Compute(f, sc)
+					gr.IntoAll(qs, dst)
+				}
+				perNode(b, n)
+			})
+		}
 	}
 }
 
-// TestNoAllocation checks that Deriv and VorticityTo allocate nothing on a normalized field, so
-// the per-node loops are allocation-free.
+// TestNoAllocation checks that Deriv, VorticityTo, Gradient.Compute (reusing its slices) and
+// IntoAll allocate nothing on a normalized field, so the per-node loops are allocation-free.
 func TestNoAllocation(t *testing.T) {
 	g := squareGrid(64, 0.001)
 	f := analytic.Sample(lambOseen, g, 0)
@@ -84,6 +113,15 @@ func TestNoAllocation(t *testing.T) {
 		}
 		if a := testing.AllocsPerRun(5, func() { VorticityTo(w, f, sc) }); a != 0 {
 			t.Errorf("%s: VorticityTo allocates %.0f times", sc, a)
+		}
+		var gr Gradient
+		gr.Compute(f, sc)
+		all := [][]float64{w, dx}
+		if a := testing.AllocsPerRun(5, func() {
+			gr.Compute(f, sc)
+			gr.IntoAll([]Quantity{QCriterion, QLambda2}, all)
+		}); a != 0 {
+			t.Errorf("%s: Gradient.Compute and IntoAll allocate %.0f times", sc, a)
 		}
 	}
 }

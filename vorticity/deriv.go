@@ -176,43 +176,54 @@ func Deriv(g piv.Grid, s []float64, scheme Scheme, dx, dy []float64, st []Stenci
 // full stencil also needs the neighbouring lines: o is the node's position across (of m, ostep
 // apart). s[k] must not be NaN.
 func along(s []float64, k, i, n, step int, inv float64, scheme Scheme, o, m, ostep int) (float64, StencilKind) {
-	ok := func(d int) bool {
-		p := i + d
-		return p >= 0 && p < n && s[k+d*step] == s[k+d*step]
+	var p1, m1, p2, m2 float64
+	nan := math.NaN()
+	p1, m1, p2, m2 = nan, nan, nan, nan
+	if i+1 < n {
+		p1 = s[k+step]
+		if i+2 < n {
+			p2 = s[k+2*step]
+		}
 	}
-	p1, m1 := ok(1), ok(-1)
-	if p1 && m1 {
+	if i >= 1 {
+		m1 = s[k-step]
+		if i >= 2 {
+			m2 = s[k-2*step]
+		}
+	}
+	hasP1, hasM1 := p1 == p1, m1 == m1
+	if hasP1 && hasM1 {
 		switch scheme {
 		case Central:
-			return (s[k+step] - s[k-step]) * inv / 2, StencilFull
+			return (p1 - m1) * (inv / 2), StencilFull
 		case Richardson:
-			if ok(2) && ok(-2) {
-				return (s[k-2*step] - 8*s[k-step] + 8*s[k+step] - s[k+2*step]) * inv / 12, StencilFull
+			if p2 == p2 && m2 == m2 {
+				return (m2 - 8*m1 + 8*p1 - p2) * (inv / 12), StencilFull
 			}
 		case LeastSquares:
-			if ok(2) && ok(-2) {
-				return (2*(s[k+2*step]-s[k-2*step]) + s[k+step] - s[k-step]) * inv / 10, StencilFull
+			if p2 == p2 && m2 == m2 {
+				return (2*(p2-m2) + p1 - m1) * (inv / 10), StencilFull
 			}
 		case Circulation:
 			if o >= 1 && o < m-1 {
 				p, q := k+step, k-step
-				d := (s[p-ostep] + 2*s[p] + s[p+ostep] - s[q-ostep] - 2*s[q] - s[q+ostep]) * inv / 8
+				d := (s[p-ostep] + 2*p1 + s[p+ostep] - s[q-ostep] - 2*m1 - s[q+ostep]) * (inv / 8)
 				if d == d {
 					return d, StencilFull
 				}
 			}
 		}
-		return (s[k+step] - s[k-step]) * inv / 2, StencilCentral
+		return (p1 - m1) * (inv / 2), StencilCentral
 	}
 	switch {
-	case p1 && ok(2):
-		return (-3*s[k] + 4*s[k+step] - s[k+2*step]) * inv / 2, StencilOneSided
-	case m1 && ok(-2):
-		return (3*s[k] - 4*s[k-step] + s[k-2*step]) * inv / 2, StencilOneSided
-	case p1:
-		return (s[k+step] - s[k]) * inv, StencilFirstOrder
-	case m1:
-		return (s[k] - s[k-step]) * inv, StencilFirstOrder
+	case hasP1 && p2 == p2:
+		return (-3*s[k] + 4*p1 - p2) * (inv / 2), StencilOneSided
+	case hasM1 && m2 == m2:
+		return (3*s[k] - 4*m1 + m2) * (inv / 2), StencilOneSided
+	case hasP1:
+		return (p1 - s[k]) * inv, StencilFirstOrder
+	case hasM1:
+		return (s[k] - m1) * inv, StencilFirstOrder
 	}
-	return math.NaN(), StencilNone
+	return nan, StencilNone
 }
