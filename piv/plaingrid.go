@@ -181,8 +181,13 @@ func parseMatrix(r io.Reader, path string, size int64, maxNodes int) (vals []flo
 // v source, each a file or a glob; the two must give the same number of files, paired in
 // natural order. Times are k*opt.DT + opt.T0.
 func OpenPlainSeries(args []string, opt ReadOptions) (*Series, error) {
+	opt.PlainGrid = true
+	return OpenSeries(args, opt)
+}
+
+func openPlainSeries(args []string, opt ReadOptions) ([]string, []float64, *gridCheckLoader, error) {
 	if len(args) != 2 {
-		return nil, fmt.Errorf("plain grids need two inputs, the u matrix file(s) and the v matrix file(s); got %d", len(args))
+		return nil, nil, nil, fmt.Errorf("plain grids need two inputs, the u matrix file(s) and the v matrix file(s); got %d", len(args))
 	}
 	var lists [2][]string
 	for c, a := range args {
@@ -190,24 +195,24 @@ func OpenPlainSeries(args []string, opt ReadOptions) (*Series, error) {
 			lists[c] = []string{a}
 			continue
 		} else if err == nil {
-			return nil, Errorf(a, 0, 0, "is a folder; give the matrix files as a glob such as %q", a+"/u_*.txt")
+			return nil, nil, nil, Errorf(a, 0, 0, "is a folder; give the matrix files as a glob such as %q", a+"/u_*.txt")
 		}
 		fs, _, err := expandArg(a)
 		if err != nil {
-			return nil, err
+			return nil, nil, nil, err
 		}
 		lists[c] = fs
 	}
 	if len(lists[0]) != len(lists[1]) {
-		return nil, fmt.Errorf("%d u files (%s) but %d v files (%s); they must pair up", len(lists[0]), args[0], len(lists[1]), args[1])
+		return nil, nil, nil, fmt.Errorf("%d u files (%s) but %d v files (%s); they must pair up", len(lists[0]), args[0], len(lists[1]), args[1])
 	}
 	times, err := seriesTimes(len(lists[0]), opt)
 	if err != nil {
-		return nil, err
+		return nil, nil, nil, err
 	}
 	uf, vf := lists[0], lists[1]
-	l := &gridCheckLoader{n: len(uf), opt: opt,
-		read: func(k int) (*Field, error) { return ReadPlainGrid(uf[k], vf[k], opt) },
+	l := &gridCheckLoader{
+		read: func(k int) (*Field, *FileInfo, error) { return ReadPlainGridInfo(uf[k], vf[k], opt) },
 		name: func(k int) string { return uf[k] }}
-	return NewSeries(uf, times, l.load)
+	return uf, times, l, nil
 }

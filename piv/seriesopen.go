@@ -27,11 +27,44 @@ const maxIndexFrames = 10_000_000
 // Frames are read lazily; every frame must be on the grid of frame 0, and loading one that is
 // not is an error naming its file.
 func OpenSeries(args []string, opt ReadOptions) (*Series, error) {
+	names, times, l, err := openSeries(args, opt)
+	if err != nil {
+		return nil, err
+	}
+	return NewSeries(names, times, l.load)
+}
+
+// OpenSeriesInfo opens a series like OpenSeries and reads its first frame at once, returning it
+// with a description of how its file was read (for "wakekit inspect").
+func OpenSeriesInfo(args []string, opt ReadOptions) (*Series, *Field, *FileInfo, error) {
+	names, times, l, err := openSeries(args, opt)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	s, err := NewSeries(names, times, l.load)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	f, info, err := l.read(0)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	l.mu.Lock()
+	if l.ref == nil {
+		g := f.Grid
+		l.ref = &g
+	}
+	l.mu.Unlock()
+	f.Time = s.Time(0)
+	return s, f, info, nil
+}
+
+func openSeries(args []string, opt ReadOptions) ([]string, []float64, *gridCheckLoader, error) {
 	if opt.PlainGrid {
-		return OpenPlainSeries(args, opt)
+		return openPlainSeries(args, opt)
 	}
 	if len(args) == 0 {
-		return nil, fmt.Errorf("no input files given")
+		return nil, nil, nil, fmt.Errorf("no input files given")
 	}
 	var files []string
 	var times []float64
@@ -39,7 +72,7 @@ func OpenSeries(args []string, opt ReadOptions) (*Series, error) {
 	for _, a := range args {
 		fs, ts, err := expandArg(a)
 		if err != nil {
-			return nil, err
+			return nil, nil, nil, err
 		}
 		if ts != nil {
 			timed += len(fs)
@@ -51,15 +84,17 @@ func OpenSeries(args []string, opt ReadOptions) (*Series, error) {
 	}
 	switch {
 	case timed > 0 && untimed > 0:
-		return nil, fmt.Errorf("%d frames have times from a frame index and %d have none; give all frames through the index, or none and use --dt", timed, untimed)
+		return nil, nil, nil, fmt.Errorf("%d frames have times from a frame index and %d have none; give all frames through the index, or none and use --dt", timed, untimed)
 	case timed == 0:
 		var err error
 		if times, err = seriesTimes(len(files), opt); err != nil {
-			return nil, err
+			return nil, nil, nil, err
 		}
 	}
-	l := &gridCheckLoader{n: len(files), opt: opt, read: func(k int) (*Field, error) { return ReadFile(files[k], opt) }, name: func(k int) string { return files[k] }}
-	return NewSeries(files, times, l.load)
+	l := &gridCheckLoader{
+		read: func(k int) (*Field, *FileInfo, error) { return ReadFileInfo(files[k], opt) },
+		name: func(k int) string { return files[k] }}
+	return files, times, l, nil
 }
 
 // seriesTimes returns k*DT + T0 for n frames, or an error when n > 1 and DT is not set.
@@ -79,9 +114,7 @@ func seriesTimes(n int, opt ReadOptions) ([]float64, error) {
 
 // gridCheckLoader reads frames and checks that each is on the grid of frame 0.
 type gridCheckLoader struct {
-	n    int
-	opt  ReadOptions
-	read func(k int) (*Field, error)
+	read func(k int) (*Field, *FileInfo, error)
 	name func(k int) string
 
 	mu  sync.Mutex
@@ -89,7 +122,7 @@ type gridCheckLoader struct {
 }
 
 func (l *gridCheckLoader) load(k int) (*Field, error) {
-	f, err := l.read(k)
+	f, _, err := l.read(k)
 	if err != nil {
 		return nil, err
 	}
@@ -103,7 +136,7 @@ func (l *gridCheckLoader) load(k int) (*Field, error) {
 		return f, nil
 	}
 	if l.ref == nil {
-		f0, err := l.read(0)
+		f0, _, err := l.read(0)
 		if err != nil {
 			return nil, err
 		}

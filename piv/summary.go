@@ -62,3 +62,18 @@ func Summarize(f *Field) FieldSummary {
 	s.SpeedMax, s.SpeedMean, s.URMS = smax, ss/fn, math.Sqrt(sq/fn)
 	return s
 }
+
+// Timing returns the mean, smallest and largest interval between consecutive frames of s [s];
+// all three are NaN for a single frame.
+func Timing(s *Series) (mean, lo, hi float64) {
+	if s.Len() < 2 {
+		nan := math.NaN()
+		return nan, nan, nan
+	}
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for k := 1; k < s.Len(); k++ {
+		d := s.Time(k) - s.Time(k-1)
+		lo, hi = math.Min(lo, d), math.Max(hi, d)
+	}
+	return s.MeanDT(), lo, hi
+}

@@ -44,3 +44,22 @@ func TestSummarize(t *testing.T) {
 		t.Errorf("empty field %+v", empty)
 	}
 }
+
+// Frame intervals of times 0, 1, 3, 6 s by hand: 1, 2 and 3 s, mean 2 s.
+func TestTiming(t *testing.T) {
+	g := Grid{NX: 2, NY: 2, DX: 1, DY: 1}
+	var frames []*Field
+	for _, tm := range []float64{0, 1, 3, 6} {
+		f := NewField(g)
+		f.Time = tm
+		frames = append(frames, f)
+	}
+	s, _ := MemorySeries(frames)
+	if m, lo, hi := Timing(s); m != 2 || lo != 1 || hi != 3 {
+		t.Errorf("timing %v %v %v", m, lo, hi)
+	}
+	one, _ := MemorySeries(frames[:1])
+	if m, _, _ := Timing(one); !math.IsNaN(m) {
+		t.Errorf("single frame dt %v", m)
+	}
+}
