@@ -14,6 +14,8 @@ import (
 type Contour struct {
 	X, Y   []float64
 	TX, TY []float64
+	// W is the length of (TX, TY): the arc length each point stands for.
+	W []float64
 	// S is the arc length from the first point to point k [m]; Length is the whole perimeter.
 	S      []float64
 	Length float64
@@ -46,7 +48,7 @@ func CircleContour(c piv.Circle, n int) (*Contour, error) {
 		return nil, fmt.Errorf("circle of radius %g needs %d points, more than the limit of %d", c.R, n, maxContourPoints)
 	}
 	ct := &Contour{X: make([]float64, n), Y: make([]float64, n), TX: make([]float64, n),
-		TY: make([]float64, n), S: make([]float64, n), Length: 2 * math.Pi * c.R}
+		TY: make([]float64, n), W: make([]float64, n), S: make([]float64, n), Length: 2 * math.Pi * c.R}
 	dth := 2 * math.Pi / float64(n)
 	for k := 0; k < n; k++ {
 		s, co := math.Sincos(float64(k) * dth)
@@ -54,6 +56,7 @@ func CircleContour(c piv.Circle, n int) (*Contour, error) {
 		ct.Y[k] = c.Y + c.R*s
 		ct.TX[k] = -c.R * s * dth
 		ct.TY[k] = c.R * co * dth
+		ct.W[k] = c.R * dth
 		ct.S[k] = c.R * float64(k) * dth
 	}
 	return ct, nil
@@ -77,7 +80,7 @@ func CircleSampled(g piv.Grid, c piv.Circle, spacing float64) (*Contour, error) 
 
 // PolygonContour samples the closed polygon p with points no farther apart than spacing
 // (spacing <= 0 means DefaultSpacing of g). Each edge is integrated by the composite
-// trapezoidal rule, whose error on an edge of length L is L·ds²·max|f”|/12 for a smooth
+// trapezoidal rule, whose error on an edge of length L is L·ds²·max|d²f/ds²|/12 for a smooth
 // integrand f (any numerical analysis text, e.g. Burden & Faires, Numerical Analysis §4.4).
 // The vertices are kept as sample points, so corners are integrated exactly as far as the
 // integrand allows. A clockwise polygon is reversed.
@@ -136,6 +139,10 @@ func PolygonContour(g piv.Grid, p piv.Polygon, spacing float64) (*Contour, error
 		s += math.Hypot(xs[b]-xs[a], ys[b]-ys[a])
 	}
 	ct.Length = s
+	ct.W = make([]float64, len(ct.TX))
+	for k := range ct.W {
+		ct.W[k] = math.Hypot(ct.TX[k], ct.TY[k])
+	}
 	return ct, nil
 }
 
@@ -227,7 +234,7 @@ func Line(f *piv.Field, c *Contour, opt LineOptions) (LineResult, error) {
 	q := make([]float64, n)
 	var wRep, wGap, wAll float64
 	for k := 0; k < n; k++ {
-		w := math.Hypot(c.TX[k], c.TY[k])
+		w := c.W[k]
 		wAll += w
 		u, v, rep, ok := sampleStatus(f, c.X[k], c.Y[k], opt.Interp)
 		if !ok {
@@ -260,7 +267,7 @@ func Line(f *piv.Field, c *Contour, opt LineOptions) (LineResult, error) {
 	}
 	sum := 0.0
 	for k := 0; k < n; k++ {
-		sum += q[k] * math.Hypot(c.TX[k], c.TY[k])
+		sum += q[k] * c.W[k]
 	}
 	res.Gamma = sum
 	return res, nil
@@ -309,26 +316,33 @@ func sampleStatus(f *piv.Field, x, y float64, m piv.Interp) (u, v float64, rep, 
 	i0, j0 := int(math.Floor(fi)), int(math.Floor(fj))
 	i0 = min(max(i0, 0), g.NX-2)
 	j0 = min(max(j0, 0), g.NY-2)
+	tx, ty := fi-float64(i0), fj-float64(j0)
 	if m == piv.Bicubic && i0 >= 1 && j0 >= 1 && i0+2 < g.NX && j0+2 < g.NY {
+		// Keys' cubic convolution as in piv.Sample, with the weights shared by u and v and the
+		// stencil's status checked in the same pass.
+		wx, wy := keys(tx), keys(ty)
+		var su, sv float64
 		bad, r := false, false
-		for b := -1; b <= 2 && !bad; b++ {
-			row := (j0+b)*g.NX + i0 - 1
+		for b := 0; b < 4 && !bad; b++ {
+			row := (j0-1+b)*g.NX + i0 - 1
+			var ru, rv float64
 			for a := 0; a < 4; a++ {
 				st := f.Status[row+a].Kind()
-				if st == piv.Missing || st == piv.Solid || math.IsNaN(f.U[row+a]) || math.IsNaN(f.V[row+a]) {
+				if st == piv.Missing || st == piv.Solid {
 					bad = true
 					break
 				}
 				r = r || st == piv.Replaced
+				ru += wx[a] * f.U[row+a]
+				rv += wx[a] * f.V[row+a]
 			}
+			su += wy[b] * ru
+			sv += wy[b] * rv
 		}
-		if !bad {
-			u = piv.Sample(g, f.U, x, y, piv.Bicubic)
-			v = piv.Sample(g, f.V, x, y, piv.Bicubic)
-			return u, v, r, true
+		if !bad && !math.IsNaN(su) && !math.IsNaN(sv) {
+			return su, sv, r, true
 		}
 	}
-	tx, ty := fi-float64(i0), fj-float64(j0)
 	k := j0*g.NX + i0
 	ks := [4]int{k, k + 1, k + g.NX, k + g.NX + 1}
 	for _, kk := range ks {
@@ -346,4 +360,16 @@ func sampleStatus(f *piv.Field, x, y float64, m piv.Interp) (u, v float64, rep, 
 		return 0, 0, rep, false
 	}
 	return u, v, rep, true
+}
+
+// keys returns the four weights of Keys' cubic convolution kernel (a = -1/2; Keys 1981, IEEE
+// Trans. ASSP 29:1153) at offset t in [0, 1], the kernel piv.Sample uses.
+func keys(t float64) [4]float64 {
+	t2, t3 := t*t, t*t*t
+	return [4]float64{
+		-0.5*t3 + t2 - 0.5*t,
+		1.5*t3 - 2.5*t2 + 1,
+		-1.5*t3 + 2*t2 + 0.5*t,
+		0.5*t3 - 0.5*t2,
+	}
 }
