@@ -167,25 +167,64 @@ func cfdOptions() FrameOptions {
 	}
 }
 
+func (sc cfdScore) log(t *testing.T, name string) {
+	t.Logf("%s: RMS error %.2f%% of peak |P| %.4g N; pressure impulse %.4g N s vs solver %.4g N s (difference %.2f%% of the exit impulse ∫(M+P)dt = %.4g N s); acceleration phase 0..0.28 s %.4g vs %.4g N s; deceleration phase 2.5..2.78 s %.4g vs %.4g N s",
+		name, 100*sc.rms/sc.peak, sc.peak, sc.impulse, sc.impulseTrue, 100*math.Abs(sc.impulse-sc.impulseTrue)/sc.total, sc.total,
+		sc.up, sc.upTrue, sc.down, sc.downTrue)
+}
+
+// TestCFDStartingJetExitPressure reconstructs the exit pressure force P(t) = 2π∫p r dr at x = 0
+// from the velocity frames alone and compares it with the solver's exit-plane series.
 func TestCFDStartingJetExitPressure(t *testing.T) {
 	frames := loadCFD(t)
-	for _, tc := range []struct {
-		name string
-		mod  func(*FrameOptions)
-	}{
-		{"source dirichlet right,top", func(o *FrameOptions) {}},
-		{"source level right,top", func(o *FrameOptions) { o.Solve.LevelOnly = true }},
-		{"source dirichlet top", func(o *FrameOptions) { o.Solve.Dirichlet = Top }},
-		{"zero dirichlet right,top", func(o *FrameOptions) { o.Reference = Constant }},
-		{"lagrangian source right,top", func(o *FrameOptions) { o.Accel.Method = Lagrangian }},
-	} {
-		opt := cfdOptions()
-		tc.mod(&opt)
-		ts, P, _ := cfdRun(t, frames, opt)
-		sc := scoreCFD(t, ts, P)
-		t.Logf("%s: RMS %.2f%% of peak %.4g N; impulse %.4g vs %.4g N s (error %.2f%% of total %.4g); ramp-up %.4g vs %.4g; ramp-down %.4g vs %.4g",
-			tc.name, 100*sc.rms/sc.peak, sc.peak, sc.impulse, sc.impulseTrue, 100*math.Abs(sc.impulse-sc.impulseTrue)/sc.total, sc.total,
-			sc.up, sc.upTrue, sc.down, sc.downTrue)
+	opt := cfdOptions()
+	ts, P, _ := cfdRun(t, frames, opt)
+	sc := scoreCFD(t, ts, P)
+	sc.log(t, "eulerian, source reference on right,top")
+	// Acceptance: RMS error <= 5% of the peak |P| over the record.
+	if sc.rms > 0.05*sc.peak {
+		t.Errorf("RMS error %.2f%% of peak, want <= 5%%", 100*sc.rms/sc.peak)
 	}
-	_ = analytic.Water
+	// Acceptance: pressure impulse within 2% of the total exit impulse ∫(M+P)dt.
+	if d := math.Abs(sc.impulse - sc.impulseTrue); d > 0.02*sc.total {
+		t.Errorf("pressure impulse %.4g vs %.4g N s: difference %.2f%% of ∫(M+P)dt, want <= 2%%", sc.impulse, sc.impulseTrue, 100*d/sc.total)
+	}
+	// For comparison (not an acceptance item): the constant reference p = 0 on the same edges,
+	// which ignores the unsteady far field of the nozzle's volume source.
+	opt.Reference = Constant
+	ts, P, _ = cfdRun(t, frames, opt)
+	scoreCFD(t, ts, P).log(t, "eulerian, p = 0 on right,top")
+}
+
+// noisyCFD returns copies of the frames with seeded Gaussian noise of sigma per component.
+func noisyCFD(t *testing.T, frames []*piv.Field, sigma float64) []*piv.Field {
+	out := make([]*piv.Field, len(frames))
+	for k, f := range frames {
+		c := f.Clone()
+		nm := analytic.Noise{Sigma: sigma, Seed: 2026, Stream: uint64(k)}
+		if _, err := nm.Apply(c); err != nil {
+			t.Fatal(err)
+		}
+		out[k] = c
+	}
+	return out
+}
+
+// TestCFDNoise repeats the comparison with 1% Gaussian velocity noise (seeded), with both
+// acceleration methods.
+func TestCFDNoise(t *testing.T) {
+	frames := loadCFD(t)
+	// 1% of the jet velocity U = 0.04 m/s of the reference case (README).
+	noisy := noisyCFD(t, frames, 0.01*0.04)
+	for _, m := range []Method{Eulerian, Lagrangian} {
+		opt := cfdOptions()
+		opt.Accel.Method = m
+		ts, P, _ := cfdRun(t, noisy, opt)
+		sc := scoreCFD(t, ts, P)
+		sc.log(t, m.String()+" with 1% noise")
+		// Acceptance: RMS error <= 8% of peak with 1% noise.
+		if sc.rms > 0.08*sc.peak {
+			t.Errorf("%s: RMS error %.2f%% of peak with 1%% noise, want <= 8%%", m, 100*sc.rms/sc.peak)
+		}
+	}
 }

@@ -37,8 +37,8 @@ func (fl Fluid) Validate() error {
 //	x: ∂²u/∂x² + ∂²u/∂r² + (1/r) ∂u/∂r
 //	r: ∂²v/∂x² + ∂²v/∂r² + (1/r) ∂v/∂r − v/r²
 //
-// (on the axis itself the limits 2 ∂²u/∂r² and 0 are used). Second derivatives are the scheme's
-// first derivative applied twice. NaN where the acceleration or a derivative is missing.
+// (on the axis itself the limits 2 ∂²u/∂r² and 0 are used). Second derivatives are the compact
+// three-point difference, second-order one-sided at edges (see secondAxis). NaN where the acceleration or a derivative is missing.
 func Gradient(f *piv.Field, ax, ay []float64, fl Fluid, scheme vorticity.Scheme) (gx, gy []float64) {
 	g := f.Grid
 	n := g.N()
@@ -68,24 +68,20 @@ func laplacian(f *piv.Field, scheme vorticity.Scheme) (lu, lv []float64) {
 	vx, vy := make([]float64, n), make([]float64, n)
 	vorticity.Deriv(g, f.U, scheme, ux, uy, nil)
 	vorticity.Deriv(g, f.V, scheme, vx, vy, nil)
-	uxx, tmp := make([]float64, n), make([]float64, n)
-	uyy := make([]float64, n)
-	vxx, vyy := make([]float64, n), make([]float64, n)
-	vorticity.Deriv(g, ux, scheme, uxx, tmp, nil)
-	vorticity.Deriv(g, uy, scheme, tmp, uyy, nil)
-	vorticity.Deriv(g, vx, scheme, vxx, tmp, nil)
-	vorticity.Deriv(g, vy, scheme, tmp, vyy, nil)
 	lu = make([]float64, n)
 	lv = make([]float64, n)
+	second(g, f.U, lu)
+	second(g, f.V, lv)
 	axi := f.Geometry.Axisymmetric
+	if !axi {
+		return lu, lv
+	}
+	uyy := make([]float64, n)
+	secondY(g, f.U, uyy)
 	for q := 0; q < n; q++ {
-		lu[q] = uxx[q] + uyy[q]
-		lv[q] = vxx[q] + vyy[q]
-		if !axi {
-			continue
-		}
 		r := f.Geometry.R(g.Y(q / g.NX))
 		if math.Abs(r) < 1e-6*g.DY {
+			// (1/r) ∂u/∂r → ∂²u/∂r² on the axis, and the radial component vanishes there.
 			lu[q] += uyy[q]
 			continue
 		}
@@ -93,4 +89,55 @@ func laplacian(f *piv.Field, scheme vorticity.Scheme) (lu, lv []float64) {
 		lv[q] += vy[q]/r - f.V[q]/(r*r)
 	}
 	return lu, lv
+}
+
+// second writes ∂²s/∂x² + ∂²s/∂y² into out.
+func second(g piv.Grid, s, out []float64) {
+	tmp := make([]float64, len(s))
+	secondAxis(g, s, out, 1, g.NX, g.DX)
+	secondAxis(g, s, tmp, g.NX, g.NY, g.DY)
+	for q := range out {
+		out[q] += tmp[q]
+	}
+}
+
+// secondY writes ∂²s/∂y² into out.
+func secondY(g piv.Grid, s, out []float64) { secondAxis(g, s, out, g.NX, g.NY, g.DY) }
+
+// secondAxis writes the second derivative of s along one grid direction (index stride and
+// count n per line) into out: the central three-point difference where both neighbours have
+// data, else the second-order one-sided four-point difference (2f0 − 5f1 + 4f2 − f3)/h², else
+// the first-order one-sided three-point difference, else NaN. No stencil reads a node without
+// data. (The vorticity package offers first derivatives only.)
+func secondAxis(g piv.Grid, s, out []float64, stride, n int, h float64) {
+	h2 := h * h
+	for q := range s {
+		var pos int
+		if stride == 1 {
+			pos = q % g.NX
+		} else {
+			pos = q / g.NX
+		}
+		out[q] = math.NaN()
+		if math.IsNaN(s[q]) {
+			continue
+		}
+		ok := func(d int) bool {
+			p := pos + d
+			return p >= 0 && p < n && !math.IsNaN(s[q+d*stride])
+		}
+		at := func(d int) float64 { return s[q+d*stride] }
+		switch {
+		case ok(-1) && ok(1):
+			out[q] = (at(-1) - 2*at(0) + at(1)) / h2
+		case ok(1) && ok(2) && ok(3):
+			out[q] = (2*at(0) - 5*at(1) + 4*at(2) - at(3)) / h2
+		case ok(-1) && ok(-2) && ok(-3):
+			out[q] = (2*at(0) - 5*at(-1) + 4*at(-2) - at(-3)) / h2
+		case ok(1) && ok(2):
+			out[q] = (at(0) - 2*at(1) + at(2)) / h2
+		case ok(-1) && ok(-2):
+			out[q] = (at(0) - 2*at(-1) + at(-2)) / h2
+		}
+	}
 }
