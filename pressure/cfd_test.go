@@ -123,7 +123,7 @@ func cfdRun(t *testing.T, frames []*piv.Field, opt FrameOptions) (ts, P, M []flo
 
 type cfdScore struct {
 	rms, peak, impulse, impulseTrue, total float64
-	up, upTrue, down, downTrue     float64
+	up, upTrue, down, downTrue             float64
 }
 
 func scoreCFD(t *testing.T, ts, P []float64) cfdScore {
