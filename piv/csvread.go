@@ -134,7 +134,11 @@ func (c *csvReader) nextLine() ([]byte, error) {
 		b = c.long
 	}
 	if err != nil && !errors.Is(err, io.EOF) {
-		return nil, c.errf(c.line+1, 0, "reading: %v", err)
+		var ie *InputError
+		if errors.As(err, &ie) {
+			return nil, err
+		}
+		return nil, c.errf(c.line+1, 0, "cannot read the data: %v", err)
 	}
 	if len(b) == 0 && err != nil {
 		return nil, io.EOF

@@ -1,0 +1,193 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"github.com/spf13/pflag"
+	"github.com/wakekit/wakekit/piv"
+)
+
+func init() {
+	register(&command{
+		name:    "inspect",
+		summary: "print what a velocity file or series holds: grid, spacing, units, extent, valid share, ranges",
+		usage:   "wakekit inspect [flags] FILES...",
+		help: `Reads a frame (a CSV table, or a u and a v matrix with --plain) or a series (several
+files, a glob, a folder or a frame index CSV) and prints how it was read and what it holds:
+columns and units found, grid size and spacing, extent, geometry, the share of valid nodes,
+velocity ranges and means, and the frame count and time step of a series. All values are
+printed in SI units. Only the first frame is read unless --all is given, which reads every
+frame and checks that they share one grid. Nothing is written unless --json names a file.
+
+Examples:
+  wakekit inspect tank2/run3/frame_0001.csv
+  wakekit inspect --all --dt 0.002 'tank2/run3/frame_*.csv'
+  wakekit inspect tank2/run3/frames.csv --json run3-inspect.json
+  wakekit inspect --length-unit mm --velocity-unit px/frame --pixel-size 2e-5 --pulse-separation 5e-4 pulse.dat
+  wakekit inspect --plain --grid-spacing 0.5 --length-unit mm u_0001.txt v_0001.txt`,
+		setup: func(fs *pflag.FlagSet) func(e *env, args []string) error {
+			rf := addReadFlags(fs)
+			all := fs.Bool("all", false, "read every frame, check that all share one grid and report the range of valid shares")
+			jsonOut := fs.String("json", "", "also write the summary as JSON to this file")
+			return func(e *env, args []string) error {
+				if len(args) == 0 {
+					return usagef("no input files given")
+				}
+				opt, err := rf.options()
+				if err != nil {
+					return err
+				}
+				rep, err := inspect(args, opt, *all)
+				if err != nil {
+					return err
+				}
+				if *jsonOut != "" {
+					if err := piv.WriteJSON(*jsonOut, rep); err != nil {
+						return err
+					}
+				}
+				rep.print(e.stdout)
+				return nil
+			}
+		},
+	})
+}
+
+// inspectReport is what inspect prints, and writes with --json.
+type inspectReport struct {
+	Input        []string      `json:"input"`
+	FirstFrame   string        `json:"first_frame"`
+	Format       string        `json:"format"`
+	Gzip         bool          `json:"gzip"`
+	Delimiter    string        `json:"delimiter"`
+	Header       bool          `json:"header"`
+	Columns      []string      `json:"columns"`
+	LengthUnit   string        `json:"length_unit_read"`
+	VelocityUnit string        `json:"velocity_unit_read"`
+	NX           int           `json:"nx"`
+	NY           int           `json:"ny"`
+	DX           piv.JSONFloat `json:"dx_m"`
+	DY           piv.JSONFloat `json:"dy_m"`
+	XMin         piv.JSONFloat `json:"x_min_m"`
+	XMax         piv.JSONFloat `json:"x_max_m"`
+	YMin         piv.JSONFloat `json:"y_min_m"`
+	YMax         piv.JSONFloat `json:"y_max_m"`
+	Geometry     string        `json:"geometry"`
+	Nodes        int           `json:"nodes"`
+	Measured     int           `json:"measured"`
+	Replaced     int           `json:"replaced"`
+	Missing      int           `json:"missing"`
+	Solid        int           `json:"solid"`
+	ValidShare   piv.JSONFloat `json:"valid_share"`
+	UMin         piv.JSONFloat `json:"u_min_m_s"`
+	UMax         piv.JSONFloat `json:"u_max_m_s"`
+	UMean        piv.JSONFloat `json:"u_mean_m_s"`
+	VMin         piv.JSONFloat `json:"v_min_m_s"`
+	VMax         piv.JSONFloat `json:"v_max_m_s"`
+	VMean        piv.JSONFloat `json:"v_mean_m_s"`
+	SpeedMax     piv.JSONFloat `json:"speed_max_m_s"`
+	SpeedMean    piv.JSONFloat `json:"speed_mean_m_s"`
+	Frames       int           `json:"frames"`
+	T0           piv.JSONFloat `json:"t_first_s"`
+	T1           piv.JSONFloat `json:"t_last_s"`
+	DT           piv.JSONFloat `json:"dt_mean_s"`
+	DTMin        piv.JSONFloat `json:"dt_min_s"`
+	DTMax        piv.JSONFloat `json:"dt_max_s"`
+	// With --all: valid share over all frames.
+	AllFrames     bool          `json:"all_frames_read"`
+	ValidShareMin piv.JSONFloat `json:"valid_share_min"`
+	ValidShareMax piv.JSONFloat `json:"valid_share_max"`
+}
+
+func inspect(args []string, opt piv.ReadOptions, all bool) (*inspectReport, error) {
+	s, f, info, err := piv.OpenSeriesInfo(args, opt)
+	if err != nil {
+		return nil, err
+	}
+	g := f.Grid
+	sum := piv.Summarize(f)
+	dt, dtMin, dtMax := piv.Timing(s)
+	r := &inspectReport{
+		Input: args, FirstFrame: s.Name(0),
+		Format: info.Format, Gzip: info.Gzip, Delimiter: info.Delimiter, Header: info.Header, Columns: info.Columns,
+		LengthUnit: info.LengthUnit, VelocityUnit: info.VelocityUnit,
+		NX: g.NX, NY: g.NY, DX: jf(g.DX), DY: jf(g.DY),
+		XMin: jf(g.X0), XMax: jf(g.XMax()), YMin: jf(g.Y0), YMax: jf(g.YMax()),
+		Geometry: f.Geometry.String(),
+		Nodes:    sum.Nodes, Measured: sum.Measured, Replaced: sum.Replaced, Missing: sum.Missing, Solid: sum.Solid,
+		ValidShare: jf(sum.ValidShare),
+		UMin:       jf(sum.UMin), UMax: jf(sum.UMax), UMean: jf(sum.UMean),
+		VMin: jf(sum.VMin), VMax: jf(sum.VMax), VMean: jf(sum.VMean),
+		SpeedMax: jf(sum.SpeedMax), SpeedMean: jf(sum.SpeedMean),
+		Frames: s.Len(), T0: jf(s.Time(0)), T1: jf(s.Time(s.Len() - 1)),
+		DT: jf(dt), DTMin: jf(dtMin), DTMax: jf(dtMax),
+		ValidShareMin: jf(sum.ValidShare), ValidShareMax: jf(sum.ValidShare),
+	}
+	if all {
+		r.AllFrames = true
+		lo, hi := sum.ValidShare, sum.ValidShare
+		for k := 1; k < s.Len(); k++ {
+			fk, err := s.Frame(k)
+			if err != nil {
+				return nil, err
+			}
+			v := fk.ValidShare()
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+		r.ValidShareMin, r.ValidShareMax = jf(lo), jf(hi)
+	}
+	return r, nil
+}
+
+func jf(v float64) piv.JSONFloat { return piv.JSONFloat(v) }
+
+func (r *inspectReport) print(w io.Writer) {
+	line := func(label, format string, args ...any) {
+		fmt.Fprintf(w, "%-12s %s\n", label, fmt.Sprintf(format, args...))
+	}
+	line("first frame", "%s", r.FirstFrame)
+	how := r.Format
+	if r.Gzip {
+		how += " (gzip)"
+	}
+	if r.Format == "csv" {
+		hdr := "no header"
+		if r.Header {
+			hdr = "header"
+		}
+		quoted := make([]string, len(r.Columns))
+		for k, c := range r.Columns {
+			quoted[k] = fmt.Sprintf("%q", c)
+		}
+		how += fmt.Sprintf(", %s-separated, %s; columns %s", r.Delimiter, hdr, strings.Join(quoted, ", "))
+	} else {
+		how += fmt.Sprintf(", %s-separated", r.Delimiter)
+	}
+	line("format", "%s", how)
+	line("units read", "length %s, velocity %s (shown below in m and m/s)", r.LengthUnit, r.VelocityUnit)
+	line("grid", "%d x %d nodes, spacing %.6g x %.6g m", r.NX, r.NY, r.DX, r.DY)
+	line("extent", "x %.6g .. %.6g m, y %.6g .. %.6g m", r.XMin, r.XMax, r.YMin, r.YMax)
+	line("geometry", "%s", r.Geometry)
+	line("valid", "%.1f%% of %d nodes (%d measured, %d replaced, %d missing, %d solid)",
+		100*float64(r.ValidShare), r.Nodes, r.Measured, r.Replaced, r.Missing, r.Solid)
+	if r.Measured+r.Replaced > 0 {
+		line("u", "%.4g .. %.4g m/s, mean %.4g m/s", r.UMin, r.UMax, r.UMean)
+		line("v", "%.4g .. %.4g m/s, mean %.4g m/s", r.VMin, r.VMax, r.VMean)
+		line("speed", "max %.4g m/s, mean %.4g m/s", r.SpeedMax, r.SpeedMean)
+	}
+	if r.Frames == 1 {
+		line("frames", "1, t = %.6g s", r.T0)
+	} else {
+		dt := fmt.Sprintf("dt %.6g s", r.DT)
+		if rel := (float64(r.DTMax) - float64(r.DTMin)) / float64(r.DT); rel > 1e-6 {
+			dt = fmt.Sprintf("mean dt %.6g s (from %.6g to %.6g s)", r.DT, r.DTMin, r.DTMax)
+		}
+		line("frames", "%d, %s, t %.6g .. %.6g s", r.Frames, dt, r.T0, r.T1)
+	}
+	if r.AllFrames {
+		line("all frames", "one grid; valid share %.1f%% .. %.1f%%", 100*float64(r.ValidShareMin), 100*float64(r.ValidShareMax))
+	}
+}
