@@ -90,7 +90,7 @@ func (n Noise) Apply(f *piv.Field) ([]int, error) {
 		BoxAverage(f, n.Window)
 	}
 	rng := rand.New(rand.NewPCG(n.Seed, n.Stream))
-	var valid []int
+	valid := make([]int, 0, len(f.U))
 	for k := range f.U {
 		if f.Valid(k) {
 			valid = append(valid, k)
