@@ -181,28 +181,55 @@ func TestLambOseenPressure(t *testing.T) {
 	}
 }
 
-// Taylor–Green velocity and pressure satisfy the Navier–Stokes equations at random points and
-// times (Taylor & Green 1937), checked by fourth-order differences of the closed forms.
-func TestTaylorGreenNavierStokes(t *testing.T) {
-	f := TaylorGreen{U: 0.3, K: 2 * math.Pi / 0.05, Nu: 1e-3, Rho: 1000}
+// nsResidual returns the x and y residuals of the incompressible Navier–Stokes momentum
+// balance rho (du/dt + u . grad u) + grad p - rho nu lap u at (x, y, t), by fourth-order
+// differences of the closed forms with space step h and time step ht.
+func nsResidual(f PressureFlow, rho, nu, x, y, tm, h, ht float64) (rx, ry float64) {
+	g := velGrads(f, x, y, tm, h, ht)
+	u, v := f.Velocity(x, y, tm)
+	px := d1(func(s float64) float64 { return f.Pressure(s, y, tm) }, x, h)
+	py := d1(func(s float64) float64 { return f.Pressure(x, s, tm) }, y, h)
+	uf := func(x, y float64) float64 { u, _ := f.Velocity(x, y, tm); return u }
+	vf := func(x, y float64) float64 { _, v := f.Velocity(x, y, tm); return v }
+	lapU := d2(func(s float64) float64 { return uf(s, y) }, x, h) + d2(func(s float64) float64 { return uf(x, s) }, y, h)
+	lapV := d2(func(s float64) float64 { return vf(s, y) }, x, h) + d2(func(s float64) float64 { return vf(x, s) }, y, h)
+	rx = rho*(g.ut+u*g.ux+v*g.uy) + px - rho*nu*lapU
+	ry = rho*(g.vt+u*g.vx+v*g.vy) + py - rho*nu*lapV
+	return rx, ry
+}
+
+// The exact Navier–Stokes solutions satisfy the momentum balance at random points and times:
+// the decaying Taylor–Green vortex (Taylor & Green 1937), the decaying Lamb–Oseen vortex
+// carried by a uniform stream (Saffman 1992, §2.1; Galilean invariance) and solid-body
+// rotation. The viscosities make the viscous term as large as the others (Reynolds number of
+// order 1), so a wrong decay rate would show.
+func TestNavierStokesExactSolutions(t *testing.T) {
+	tg := TaylorGreen{U: 0.3, K: 2 * math.Pi / 0.05, Nu: 1e-3, Rho: 1000}
+	lo := LambOseen{Gamma: 0.01, CoreRadius: 4e-3, Nu: 1e-3, X: 0.01, Y: -0.01, Uc: 0.2, Vc: -0.1, Rho: 1000}
+	rot := Rotation{Omega: 2.5, X: 0.01, Y: 0.02, Rho: 1000}
+	cases := []struct {
+		name     string
+		f        PressureFlow
+		nu       float64
+		L, U, T  float64 // length, velocity and time scales
+		x0, span float64
+	}{
+		{"taylor-green", tg, tg.Nu, 1 / tg.K, tg.U, 1 / (2 * tg.Nu * tg.K * tg.K), 0, 0.1},
+		{"lamb-oseen", lo, lo.Nu, 4e-3, 0.01 / (2 * math.Pi * 4e-3), 4e-3 / 0.2, 0.01, 0.03},
+		{"rotation", rot, 1e-3, 0.01, 0.025, 1, 0.01, 0.05},
+	}
 	rng := rand.New(rand.NewPCG(1, 2))
-	h := fdStep / f.K
-	ht := fdStep / (2 * f.Nu * f.K * f.K)
-	scale := f.Rho * f.U * f.U * f.K // size of the inertial and pressure terms
-	for n := 0; n < 200; n++ {
-		x, y, tm := rng.Float64()*0.1-0.05, rng.Float64()*0.1, rng.Float64()*0.2
-		g := velGrads(f, x, y, tm, h, ht)
-		u, v := f.Velocity(x, y, tm)
-		px := d1(func(s float64) float64 { return f.Pressure(s, y, tm) }, x, h)
-		py := d1(func(s float64) float64 { return f.Pressure(x, s, tm) }, y, h)
-		uf := func(x, y float64) float64 { u, _ := f.Velocity(x, y, tm); return u }
-		vf := func(x, y float64) float64 { _, v := f.Velocity(x, y, tm); return v }
-		lapU := d2(func(s float64) float64 { return uf(s, y) }, x, h) + d2(func(s float64) float64 { return uf(x, s) }, y, h)
-		lapV := d2(func(s float64) float64 { return vf(s, y) }, x, h) + d2(func(s float64) float64 { return vf(x, s) }, y, h)
-		rx := f.Rho*(g.ut+u*g.ux+v*g.uy) + px - f.Rho*f.Nu*lapU
-		ry := f.Rho*(g.vt+u*g.vx+v*g.vy) + py - f.Rho*f.Nu*lapV
-		if math.Abs(rx) > 1e-8*scale || math.Abs(ry) > 1e-8*scale {
-			t.Fatalf("(%g, %g, %g): Navier–Stokes residual (%.3g, %.3g), scale %.3g", x, y, tm, rx, ry, scale)
+	for _, c := range cases {
+		h, ht := fdStep*c.L, fdStep*c.T
+		scale := 1000 * c.U * c.U / c.L // size of the inertial and pressure terms
+		for n := 0; n < 200; n++ {
+			x := c.x0 + (rng.Float64()-0.5)*c.span
+			y := c.x0 + (rng.Float64()-0.5)*c.span
+			tm := rng.Float64() * 3 * c.T
+			rx, ry := nsResidual(c.f, 1000, c.nu, x, y, tm, h, ht)
+			if math.Abs(rx) > 1e-8*scale || math.Abs(ry) > 1e-8*scale {
+				t.Fatalf("%s at (%g, %g, %g): Navier–Stokes residual (%.3g, %.3g), scale %.3g", c.name, x, y, tm, rx, ry, scale)
+			}
 		}
 	}
 }
