@@ -1,0 +1,643 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"github.com/spf13/pflag"
+	"github.com/wakekit/wakekit/circulation"
+	"github.com/wakekit/wakekit/internal/pipeline"
+	"github.com/wakekit/wakekit/internal/report"
+	"github.com/wakekit/wakekit/piv"
+	"github.com/wakekit/wakekit/piv/analytic"
+	"github.com/wakekit/wakekit/pressure"
+)
+
+func init() {
+	register(&command{
+		name:    "jet",
+		summary: "the starting-jet budget: exit program, circulation and impulse budgets, thrust split, report",
+		usage:   "wakekit jet FILES... --exit X --diameter D (--axisymmetric --axis Y | --slot) [flags]",
+		help: `Analyses a time-resolved series of a starting or pulsed jet issuing along +x from a nozzle
+whose exit plane is x = --exit. Per frame it measures the exit program at the first column at
+or downstream of the exit (area-averaged and centreline velocity, momentum flux, vorticity flux
+with its radial-velocity part), the circulation and impulse in view and their leading-ring
+share, and (unless --no-pressure) the pressure field and the exit-plane pressure force. Per
+pulse it gives the stroke ratio, Reynolds number, slug-model circulation and impulse, the
+circulation budget and formation number, the impulse budget with the over-pressure impulse by
+two routes, (a) the reconstructed exit pressure and (b) dI/dt minus the exit momentum flux
+minus the measured exchange outside the lip, the over-pressure impulse of each phase
+(acceleration, hold, deceleration), and the ring's position, radius, core and speed with the
+Saffman check. Every figure carries a one-sigma uncertainty from Monte-Carlo resampling of the
+series with velocity noise of --noise m/s (estimated from the data's small-scale residual when
+not given), seeded by --seed.
+
+Writes summary.json, timeseries.csv, PNG plots and report.html into the output folder, and
+prints the summary table.
+
+Examples:
+  wakekit jet run07/frames.csv --axisymmetric --axis 0 --exit 0 --diameter 0.025 --lip 0.01375 --out run07-jet
+  wakekit jet 'slot/*.csv' --slot --axis 0.04 --exit 0.002 --diameter 0.01 --noise 0.002 --label "slot B" --param s_over_D=1.5
+  wakekit jet frames/ --axisymmetric --exit 0 --diameter 0.02 --pulse 0.1,1.9 --no-pressure -q`,
+		setup: setupJet,
+	})
+}
+
+// jetSettings are the settings of one jet analysis.
+type jetSettings struct {
+	exit        circulation.ExitConfig
+	slot        bool
+	pulse       string  // "T0,T1" or empty for automatic detection
+	threshold   float64 // detection threshold as a share of the peak exit velocity
+	noise       float64 // velocity noise [m/s]; < 0 means estimate
+	samples     int     // Monte-Carlo replicas
+	seed        uint64
+	smooth      int
+	noPressure  bool
+	restTime    float64 // time the tank was at rest (NaN: unknown)
+	label       string
+	params      map[string]string
+	title       string // report title
+	description string // scenario text for the report
+}
+
+func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
+	rf := addReadFlags(fs)
+	run := addRunFlags(fs)
+	s := &jetSettings{}
+	var params []string
+	var rest string
+	var seed uint
+	fs.Float64Var(&s.exit.X, "exit", 0, "x of the nozzle exit plane [m]")
+	fs.Float64Var(&s.exit.Diameter, "diameter", 0, "nozzle inner diameter (slot width) D [m]")
+	fs.Float64Var(&s.exit.LipOuter, "lip", 0, "outer radius of the nozzle lip [m] (default D/2)")
+	fs.BoolVar(&s.slot, "slot", false, "planar slot jet about y = --axis (per unit depth)")
+	fs.Float64Var(&s.exit.Rho, "rho", 1000, "fluid density [kg/m^3]")
+	fs.Float64Var(&s.exit.Nu, "nu", 1e-6, "kinematic viscosity [m^2/s]")
+	fs.StringVar(&s.pulse, "pulse", "", "pulse start and end T0,T1 [s] (default: detected)")
+	fs.Float64Var(&s.threshold, "threshold", circulation.PulseThreshold, "pulse detection threshold as a share of the peak exit velocity")
+	fs.Float64Var(&s.noise, "noise", -1, "velocity noise per component [m/s] for the uncertainties (default: estimated from the data)")
+	fs.IntVar(&s.samples, "samples", 16, "Monte-Carlo replicas for the uncertainties (0: none)")
+	fs.UintVar(&seed, "seed", 1, "seed of the Monte-Carlo noise")
+	fs.IntVar(&s.smooth, "smooth", circulation.BudgetSmooth, "half-width in frames of the smoothing differentiator for dI/dt")
+	fs.BoolVar(&s.noPressure, "no-pressure", false, "skip the pressure reconstruction (route (a) is then not computed)")
+	fs.StringVar(&rest, "rest", "", "time [s] at which the fluid was at rest, before the first frame (improves the first frames' acceleration)")
+	fs.StringVar(&s.label, "label", "", "label of this run, recorded in the summary (for compare)")
+	fs.StringArrayVar(&params, "param", nil, "run parameter KEY=VALUE recorded in the summary (repeatable; for compare --by KEY)")
+	return func(e *env, args []string) error {
+		s.seed = uint64(seed)
+		s.exit.AxisY = rf.axis
+		if !rf.axisymmetric && !s.slot {
+			return usagef("say how to read the plane: --axisymmetric (round nozzle) or --slot (planar slot)")
+		}
+		if rf.axisymmetric && s.slot {
+			return usagef("--axisymmetric and --slot exclude each other")
+		}
+		if !fs.Changed("diameter") {
+			return usagef("--diameter is required")
+		}
+		if err := s.exit.Validate(); err != nil {
+			return usagef("%v", err)
+		}
+		if s.samples < 0 || s.samples > 1000 {
+			return usagef("--samples %d must be between 0 and 1000", s.samples)
+		}
+		if !(s.threshold > 0 && s.threshold < 1) {
+			return usagef("--threshold %g must be between 0 and 1", s.threshold)
+		}
+		s.restTime = math.NaN()
+		if rest != "" {
+			var t float64
+			if _, err := fmt.Sscan(rest, &t); err != nil {
+				return usagef("--rest %q is not a time in seconds", rest)
+			}
+			s.restTime = t
+		}
+		var err error
+		if s.params, err = parseParams(params); err != nil {
+			return err
+		}
+		series, err := rf.open(args)
+		if err != nil {
+			return err
+		}
+		dir, err := run.outDir("jet", args)
+		if err != nil {
+			return err
+		}
+		s.title = "Starting-jet budget"
+		if s.label != "" {
+			s.title += ": " + s.label
+		}
+		out, err := runJet(context.Background(), e, series, s, run, args, dir)
+		if err != nil {
+			return err
+		}
+		printJetSummary(e.stdout, out)
+		fmt.Fprintf(e.stdout, "\nReport: %s\n", filepath.Join(dir, "report.html"))
+		return nil
+	}
+}
+
+func parseParams(list []string) (map[string]string, error) {
+	m := map[string]string{}
+	for _, p := range list {
+		k, v, ok := strings.Cut(p, "=")
+		k = strings.TrimSpace(k)
+		if !ok || k == "" {
+			return nil, usagef("--param %q is not KEY=VALUE", p)
+		}
+		m[k] = strings.TrimSpace(v)
+	}
+	return m, nil
+}
+
+// jetFrame is what the pipeline stage returns for one frame: the measured record and the
+// records of the Monte-Carlo replicas.
+type jetFrame struct {
+	rec  circulation.BudgetRecord
+	reps []circulation.BudgetRecord
+}
+
+// jetOutcome is the result of a jet analysis.
+type jetOutcome struct {
+	settings   *jetSettings
+	series     circulation.BudgetSeries
+	pulses     []circulation.BudgetPulse
+	figures    [][]circulation.BudgetFigure
+	spread     [][]float64
+	noise      float64
+	noiseFrom  string
+	notDone    []string
+	files      []string
+	axi        bool
+	frameCount int
+}
+
+func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run *runFlags, inputs []string, dir string) (*jetOutcome, error) {
+	first, err := series.Frame(0)
+	if err != nil {
+		return nil, err
+	}
+	axi := first.Geometry.Axisymmetric
+	if _, err := circulation.ExitStation(first.Grid, s.exit); err != nil {
+		return nil, fmt.Errorf("%s: %w", first.Name(), err)
+	}
+	out := &jetOutcome{settings: s, axi: axi, frameCount: series.Len()}
+	// Noise level for the uncertainties.
+	out.noise, out.noiseFrom = s.noise, "given (--noise)"
+	if s.noise < 0 {
+		var est []float64
+		for _, k := range []int{0, series.Len() / 2, series.Len() - 1} {
+			f, err := series.Frame(k)
+			if err != nil {
+				return nil, err
+			}
+			if v := circulation.BudgetNoiseEstimate(f); !math.IsNaN(v) {
+				est = append(est, v)
+			}
+		}
+		out.noise, out.noiseFrom = math.NaN(), "not estimated (too few usable nodes)"
+		if len(est) > 0 {
+			sort.Float64s(est)
+			out.noise, out.noiseFrom = est[len(est)/2], "estimated from the small-scale residual of the data"
+		}
+	}
+	samples := s.samples
+	if math.IsNaN(out.noise) || out.noise == 0 {
+		samples = 0
+	}
+	// Pressure reconstruction settings (route (a)).
+	var popt *pressure.FrameOptions
+	halo := 0
+	if !s.noPressure {
+		o := pressure.FrameOptions{
+			Accel: pressure.AccelOptions{Method: pressure.Eulerian},
+			Fluid: pressure.Fluid{Rho: s.exit.Rho, Nu: s.exit.Nu},
+			Solve: pressure.Options{Dirichlet: pressure.Right | pressure.Top},
+			Exit:  &pressure.Exit{X: s.exit.X, Radius: s.exit.Diameter / 2, Axis: s.exit.AxisY},
+		}
+		if axi {
+			o.Reference = pressure.Source
+			o.Exit.Axis = first.Geometry.AxisY
+		}
+		if !math.IsNaN(s.restTime) {
+			o.Accel.Rest, o.Accel.RestTime = true, s.restTime
+		}
+		if err := pressure.CheckSeries(series, o.Accel); err != nil {
+			return nil, err
+		}
+		popt = &o
+		halo = o.Accel.Halo()
+	} else {
+		out.notDone = append(out.notDone, "Route (a), the over-pressure force from the reconstructed exit pressure, was not computed (--no-pressure).")
+	}
+	var progress io.Writer
+	if e.stderrTTY && !run.quiet {
+		progress = e.stderr
+	}
+	recs := make([]circulation.BudgetRecord, 0, series.Len())
+	repRecs := make([][]circulation.BudgetRecord, samples)
+	proc := func(ctx context.Context, k int, fr pipeline.Frames) (jetFrame, error) {
+		f, err := fr.Frame(k)
+		if err != nil {
+			return jetFrame{}, err
+		}
+		var jf jetFrame
+		if jf.rec, err = measureJetFrame(f, s.exit); err != nil {
+			return jf, err
+		}
+		jf.rec.PressureA = math.NaN()
+		if popt != nil {
+			res, err := pressure.Reconstruct(fr, k, *popt)
+			if err != nil {
+				return jf, err
+			}
+			if res.Exit != nil {
+				jf.rec.PressureA = res.Exit.P
+			}
+		}
+		for r := 0; r < samples; r++ {
+			c := f.Clone()
+			nz := analytic.Noise{Sigma: out.noise, Seed: s.seed, Stream: uint64(k)*uint64(samples+1) + uint64(r)}
+			if _, err := nz.Apply(c); err != nil {
+				return jf, err
+			}
+			rr, err := measureJetFrame(c, s.exit)
+			if err != nil {
+				return jf, err
+			}
+			rr.PressureA = math.NaN()
+			jf.reps = append(jf.reps, rr)
+		}
+		return jf, nil
+	}
+	emit := func(k int, jf jetFrame) error {
+		recs = append(recs, jf.rec)
+		for r := range jf.reps {
+			repRecs[r] = append(repRecs[r], jf.reps[r])
+		}
+		return nil
+	}
+	if _, err := pipeline.Run(ctx, series, pipeline.Options{Workers: run.workers, Halo: halo, Progress: progress, Label: "jet"}, proc, emit); err != nil {
+		return nil, err
+	}
+	if progress != nil {
+		fmt.Fprintln(progress)
+	}
+	if len(recs) < 4 {
+		return nil, fmt.Errorf("the series has %d frames; the jet budget needs at least 4", len(recs))
+	}
+	out.series = circulation.BudgetHistories(recs, s.exit, s.smooth)
+	var pulses []circulation.Pulse
+	if s.pulse != "" {
+		parts := splitList(s.pulse)
+		var a, b float64
+		if len(parts) != 2 {
+			return nil, usagef("--pulse %q is not T0,T1", s.pulse)
+		}
+		if _, err := fmt.Sscan(parts[0], &a); err != nil {
+			return nil, usagef("--pulse %q: cannot read %q as a time", s.pulse, parts[0])
+		}
+		if _, err := fmt.Sscan(parts[1], &b); err != nil {
+			return nil, usagef("--pulse %q: cannot read %q as a time", s.pulse, parts[1])
+		}
+		p, err := circulation.PulseGiven(out.series.T, out.series.U0, a, b)
+		if err != nil {
+			return nil, usagef("--pulse: %v", err)
+		}
+		pulses = []circulation.Pulse{p}
+	} else {
+		pulses = circulation.PulseDetect(out.series.T, out.series.U0, s.threshold)
+		if len(pulses) == 0 {
+			return nil, fmt.Errorf("no pulse found: the exit velocity at x = %g m never exceeds %g of its peak; check --exit, --axis and --diameter",
+				s.exit.X, s.threshold)
+		}
+	}
+	out.pulses = circulation.BudgetPulses(out.series, pulses, s.exit, axi)
+	reps := make([][]circulation.BudgetPulse, samples)
+	for r := range reps {
+		h := circulation.BudgetHistories(repRecs[r], s.exit, s.smooth)
+		// Route (a) is taken from the measured series in every replica (the pressure solve is not
+		// repeated), so its spread is not part of the resampling.
+		copy(h.PressureA, out.series.PressureA)
+		reps[r] = circulation.BudgetPulses(h, pulses, s.exit, axi)
+	}
+	for q, p := range out.pulses {
+		base := p.Figures()
+		var rf [][]circulation.BudgetFigure
+		for r := range reps {
+			rf = append(rf, reps[r][q].Figures())
+		}
+		out.figures = append(out.figures, base)
+		out.spread = append(out.spread, circulation.BudgetSpread(base, rf))
+	}
+	out.notDone = append(out.notDone,
+		"The pressure on the exit plane outside the lip (r > outer lip radius) and on the lip face is not measured; route (b) uses the quasi-steady Bernoulli estimate -rho|u|^2/2 there, which leaves out the unsteady term -rho dphi/dt.",
+		"Momentum exchanged beyond the edges of the view (above the top row, downstream of the last column) is not seen by either route.",
+		"Route (a) uncertainties leave out the noise of the pressure reconstruction (the pressure is solved once, on the measured frames).")
+	if err := writeJetOutputs(dir, out, inputs); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+func measureJetFrame(f *piv.Field, c circulation.ExitConfig) (circulation.BudgetRecord, error) {
+	ex, err := circulation.ExitMeasure(f, c)
+	if err != nil {
+		return circulation.BudgetRecord{}, err
+	}
+	v, err := circulation.BudgetMeasure(f, c)
+	if err != nil {
+		return circulation.BudgetRecord{}, err
+	}
+	return circulation.BudgetRecord{Exit: ex, View: v}, nil
+}
+
+// summaryFormat and summaryVersion identify the jet summary file for compare.
+const (
+	summaryFormat  = "wakekit-jet-summary"
+	summaryVersion = 1
+)
+
+// jsonFigure is one figure in summary.json; null values were not computed.
+type jsonFigure struct {
+	Value       *float64 `json:"value"`
+	Uncertainty *float64 `json:"uncertainty"`
+	Unit        string   `json:"unit"`
+	Name        string   `json:"name"`
+}
+
+type jsonPulse struct {
+	Index   int                   `json:"index"`
+	Figures map[string]jsonFigure `json:"figures"`
+}
+
+type jsonSummary struct {
+	Format      string            `json:"format"`
+	Version     int               `json:"version"`
+	Program     string            `json:"program"`
+	Label       string            `json:"label"`
+	Params      map[string]string `json:"params"`
+	Geometry    string            `json:"geometry"`
+	Inputs      []string          `json:"inputs"`
+	Frames      int               `json:"frames"`
+	Settings    map[string]any    `json:"settings"`
+	Noise       map[string]any    `json:"noise"`
+	Pulses      []jsonPulse       `json:"pulses"`
+	NotMeasured []string          `json:"not_measured"`
+}
+
+func num(x float64) *float64 {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return nil
+	}
+	return &x
+}
+
+func (o *jetOutcome) summary(inputs []string) jsonSummary {
+	s := o.settings
+	geom := "slot"
+	if o.axi {
+		geom = "axisymmetric"
+	}
+	js := jsonSummary{Format: summaryFormat, Version: summaryVersion, Program: "wakekit " + version,
+		Label: s.label, Params: s.params, Geometry: geom, Inputs: inputs, Frames: o.frameCount,
+		Settings: map[string]any{
+			"exit_x_m": s.exit.X, "diameter_m": s.exit.Diameter, "lip_outer_m": s.exit.LipOuter,
+			"axis_y_m": s.exit.AxisY, "rho_kg_m3": s.exit.Rho, "nu_m2_s": s.exit.Nu,
+			"threshold": s.threshold, "pulse": s.pulse, "smooth_frames": s.smooth, "pressure": !s.noPressure,
+		},
+		Noise:       map[string]any{"sigma_m_s": num(o.noise), "source": o.noiseFrom, "samples": s.samples, "seed": s.seed},
+		NotMeasured: o.notDone,
+	}
+	if js.Params == nil {
+		js.Params = map[string]string{}
+	}
+	for q, figs := range o.figures {
+		p := jsonPulse{Index: q + 1, Figures: map[string]jsonFigure{}}
+		for n, f := range figs {
+			p.Figures[f.Key] = jsonFigure{Value: num(f.Value), Uncertainty: num(o.spread[q][n]), Unit: f.Unit, Name: f.Name}
+		}
+		js.Pulses = append(js.Pulses, p)
+	}
+	return js
+}
+
+func writeJetOutputs(dir string, o *jetOutcome, inputs []string) error {
+	js := o.summary(inputs)
+	write := func(name string, fn func(w io.Writer) error) error {
+		p := filepath.Join(dir, name)
+		if err := piv.WriteFileAtomic(p, fn); err != nil {
+			return err
+		}
+		o.files = append(o.files, p)
+		return nil
+	}
+	if err := write("summary.json", func(w io.Writer) error {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(js)
+	}); err != nil {
+		return err
+	}
+	if err := write("timeseries.csv", func(w io.Writer) error { return writeTimeseries(w, o.series) }); err != nil {
+		return err
+	}
+	plots, err := jetPlots(o)
+	if err != nil {
+		return err
+	}
+	for _, p := range plots {
+		if err := write(p.file, func(w io.Writer) error { _, err := w.Write(p.img.PNG); return err }); err != nil {
+			return err
+		}
+	}
+	rep := jetReport(o, js, plots)
+	return write("report.html", rep.Write)
+}
+
+func writeTimeseries(w io.Writer, s circulation.BudgetSeries) error {
+	cols := []struct {
+		name string
+		v    []float64
+	}{
+		{"t [s]", s.T}, {"U0 [m/s]", s.U0}, {"u_centre [m/s]", s.Centre}, {"L [m]", s.Stroke}, {"t_star [1]", s.TStar},
+		{"F_m [N]", s.Fm}, {"F_out [N]", s.Fout}, {"P_out_bernoulli [N]", s.Pout},
+		{"vorticity_flux [m^2/s^2]", s.VortFlux}, {"radial_flux [m^2/s^2]", s.RadFlux},
+		{"delivered [m^2/s]", s.Delivered}, {"slug_circulation [m^2/s]", s.Slug},
+		{"Gamma [m^2/s]", s.Gamma}, {"ring_Gamma [m^2/s]", s.RingGamma}, {"I [N s]", s.Impulse}, {"dI_dt [N]", s.Force},
+		{"P_a [N]", s.PressureA}, {"P_b [N]", s.PressureB},
+		{"ring_x [m]", s.RingX}, {"ring_core_r [m]", s.CoreR}, {"ring_impulse_radius [m]", s.RingR}, {"core_size [m]", s.CoreRadius},
+	}
+	for c, col := range cols {
+		if c > 0 {
+			io.WriteString(w, ",")
+		}
+		io.WriteString(w, col.name)
+	}
+	io.WriteString(w, "\n")
+	for k := range s.T {
+		for c, col := range cols {
+			if c > 0 {
+				io.WriteString(w, ",")
+			}
+			if v := col.v[k]; !math.IsNaN(v) {
+				fmt.Fprintf(w, "%.8g", v)
+			}
+		}
+		if _, err := io.WriteString(w, "\n"); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// printJetSummary prints the main figures of each pulse with their uncertainties.
+func printJetSummary(w io.Writer, o *jetOutcome) {
+	keys := []string{"stroke_ratio", "reynolds", "duration", "slug_circulation", "flux_circulation", "gamma_final",
+		"ring_circulation", "formation_number", "slug_impulse", "impulse_final", "momentum_window",
+		"pressure_window_a", "pressure_window_b", "overpressure_share", "peak_force", "peak_pressure_a", "peak_ratio_a",
+		"ring_speed", "saffman_speed"}
+	fmt.Fprintf(w, "%d frames, %s; noise %s m/s (%s), %d Monte-Carlo replicas\n",
+		o.frameCount, map[bool]string{true: "axisymmetric", false: "slot"}[o.axi], fmtVal(o.noise), o.noiseFrom, o.settings.samples)
+	for q, figs := range o.figures {
+		fmt.Fprintf(w, "\nPulse %d\n", q+1)
+		for _, key := range keys {
+			for n, f := range figs {
+				if f.Key != key {
+					continue
+				}
+				unc := ""
+				if u := o.spread[q][n]; !math.IsNaN(u) {
+					unc = "± " + fmtVal(u)
+				}
+				fmt.Fprintf(w, "  %-52s %12s %-12s %s\n", f.Name, fmtVal(f.Value), unc, f.Unit)
+			}
+		}
+	}
+}
+
+func fmtVal(x float64) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "not computed"
+	}
+	return fmt.Sprintf("%.4g", x)
+}
+
+type jetPlot struct {
+	file string
+	img  report.Image
+}
+
+// jetPlots draws the exit program, the circulation budget, the thrust split and the ring path.
+func jetPlots(o *jetOutcome) ([]jetPlot, error) {
+	s := o.series
+	var markers []report.Marker
+	for q, p := range o.pulses {
+		markers = append(markers,
+			report.Marker{X: p.Start, Label: fmt.Sprintf("start %d", q+1)},
+			report.Marker{X: p.AccelEnd}, report.Marker{X: p.DecelStart},
+			report.Marker{X: p.End, Label: fmt.Sprintf("end %d", q+1)})
+	}
+	unit := "N"
+	if !o.axi {
+		unit = "N/m"
+	}
+	specs := []struct {
+		file, title, caption string
+		plot                 report.LinePlot
+	}{
+		{"exit_program.png", "Exit velocity program",
+			"Area-averaged exit velocity U0 and centreline velocity at the exit station, with the pulse start, the ends of acceleration and deceleration, and the pulse end.",
+			report.LinePlot{Title: "Exit velocity program", XLabel: "t [s]", YLabel: "velocity [m/s]", Markers: markers,
+				Lines: []report.Line{{Label: "U0 (area average)", X: s.T, Y: s.U0}, {Label: "centreline", X: s.T, Y: s.Centre, Dashed: true}}}},
+		{"circulation_budget.png", "Circulation budget versus formation time",
+			"Circulation in view, its leading-ring share, the slug-model circulation (1/2) int U0^2 dt and the circulation delivered by the vorticity flux through the exit station, against the formation time t* = L/D. After the pulse t* stays constant and the curves show the later evolution as vertical runs.",
+			report.LinePlot{Title: "Circulation budget", XLabel: "formation time L/D", YLabel: "circulation [m^2/s]",
+				Lines: []report.Line{{Label: "in view", X: s.TStar, Y: s.Gamma}, {Label: "leading ring", X: s.TStar, Y: s.RingGamma, Dashed: true},
+					{Label: "slug model", X: s.TStar, Y: s.Slug}, {Label: "delivered (flux)", X: s.TStar, Y: s.Delivered, Dashed: true}}}},
+		{"thrust_split.png", "Thrust split versus time",
+			"Exit momentum flux F_m, over-pressure force by route (a) (reconstructed exit pressure) and by route (b) (dI/dt - F_m - measured exchange outside the lip), and the wake's dI/dt.",
+			report.LinePlot{Title: "Thrust split", XLabel: "t [s]", YLabel: "force [" + unit + "]", Markers: markers,
+				Lines: []report.Line{{Label: "momentum flux F_m", X: s.T, Y: s.Fm}, {Label: "over-pressure (a)", X: s.T, Y: s.PressureA},
+					{Label: "over-pressure (b)", X: s.T, Y: s.PressureB, Dashed: true}, {Label: "dI/dt", X: s.T, Y: s.Force, Dashed: true}}}},
+		{"ring_path.png", "Leading ring",
+			"Axial position of the ring core (peak of the circulation per unit length) and its radial position (peak vorticity), with the impulse radius.",
+			report.LinePlot{Title: "Leading ring", XLabel: "t [s]", YLabel: "position [m]",
+				Lines: []report.Line{{Label: "core x", X: s.T, Y: s.RingX}, {Label: "core r", X: s.T, Y: s.CoreR}, {Label: "impulse radius", X: s.T, Y: s.RingR, Dashed: true}}}},
+	}
+	var out []jetPlot
+	for _, sp := range specs {
+		b, err := sp.plot.PNG()
+		if err != nil {
+			// A plot without data (e.g. no pressure) is left out and said so.
+			o.notDone = append(o.notDone, fmt.Sprintf("The plot %q was not drawn: %v.", sp.title, err))
+			continue
+		}
+		out = append(out, jetPlot{file: sp.file, img: report.Image{Title: sp.title, Caption: sp.caption, PNG: b}})
+	}
+	return out, nil
+}
+
+// jetReport assembles the HTML report from the summary.
+func jetReport(o *jetOutcome, js jsonSummary, plots []jetPlot) *report.Report {
+	s := o.settings
+	r := &report.Report{Title: s.title, Subtitle: s.description}
+	for q, figs := range o.figures {
+		for n, f := range figs {
+			unc := ""
+			if u := o.spread[q][n]; !math.IsNaN(u) {
+				unc = fmtVal(u)
+			}
+			r.Summary = append(r.Summary, report.Row{Group: fmt.Sprintf("Pulse %d: %s", q+1, f.Group), Name: f.Name,
+				Value: fmtVal(f.Value), Uncertainty: unc, Unit: f.Unit})
+		}
+	}
+	for _, p := range plots {
+		r.Images = append(r.Images, p.img)
+	}
+	r.Inputs = [][2]string{{"input", strings.Join(js.Inputs, " ")}, {"frames", fmt.Sprint(js.Frames)}, {"geometry", js.Geometry}}
+	if s.label != "" {
+		r.Inputs = append(r.Inputs, [2]string{"label", s.label})
+	}
+	keys := make([]string, 0, len(s.params))
+	for k := range s.params {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		r.Inputs = append(r.Inputs, [2]string{"param " + k, s.params[k]})
+	}
+	skeys := make([]string, 0, len(js.Settings))
+	for k := range js.Settings {
+		skeys = append(skeys, k)
+	}
+	sort.Strings(skeys)
+	for _, k := range skeys {
+		r.Settings = append(r.Settings, [2]string{k, fmt.Sprint(js.Settings[k])})
+	}
+	r.Settings = append(r.Settings, [2]string{"noise sigma [m/s]", fmtVal(o.noise) + " (" + o.noiseFrom + ")"},
+		[2]string{"Monte-Carlo replicas, seed", fmt.Sprintf("%d, %d", s.samples, s.seed)})
+	r.Methods = jetMethods
+	r.Unmeasured = o.notDone
+	r.Cautions = report.DefaultCautions
+	return r
+}
+
+var jetMethods = []report.Method{
+	{Name: "Exit program", Text: "U0(t) is the area average of the axial velocity over the nozzle exit at the first grid column at or downstream of the exit plane (2 pi r weight for a round nozzle, per unit depth for a slot); the stroke L(t) is its time integral and t* = L/D the formation time. Pulses are the runs of U0 above a share of its peak; acceleration, hold and deceleration are split where U0 crosses 95% of the hold velocity.", Reference: ""},
+	{Name: "Slug model", Text: "Circulation (1/2) int U0^2 dt and impulse rho A int U0^2 dt (rho A U0^2 T for a square pulse).", Reference: "Krueger & Gharib 2003; Didden 1979."},
+	{Name: "Vorticity flux", Text: "The flux of azimuthal vorticity through the exit station, int u omega dr = u_c^2/2 - u_top^2/2 + int u dv/dx dr, needs no radial derivative of the thin shear layer; the radial-velocity term int u dv/dx dr carries the over-pressure contribution.", Reference: "Krueger 2005."},
+	{Name: "Circulation and impulse in view", Text: "Line integrals of the velocity around axial strips of the view (Stokes' theorem) give the circulation; integrating pi rho int omega r^2 by parts gives the impulse from the velocity without derivatives. The leading ring is the part downstream of the circulation minimum behind the strongest strip.", Reference: "Lamb, Hydrodynamics, 1932, §165 (Hill's vortex check)."},
+	{Name: "Formation number", Text: "The formation time at which the circulation delivered to the wake reaches the leading ring's final circulation.", Reference: "Gharib, Rambod & Shariff 1998."},
+	{Name: "Thrust split", Text: "Route (a): the exit-plane pressure force from the pressure reconstructed by integrating the momentum balance (Poisson integration, reviewed by van Oudheusden 2013). Route (b): dI/dt from a smoothing differentiator (Savitzky & Golay 1964) minus the exit momentum flux, minus the measured momentum flux and the Bernoulli pressure estimate on the exit plane outside the lip.", Reference: "Krueger & Gharib 2003; van Oudheusden 2013."},
+	{Name: "Ring kinematics", Text: "Core position from the peak of the circulation per unit length and the peak vorticity in the core column; Gaussian core radius a = sqrt(Gamma/(pi omega_max)); speed from a straight-line fit over the second half of the time after the pulse, compared with the viscous-core speed Gamma/(4 pi R)(ln(8R/a) - 0.558).", Reference: "Saffman 1970."},
+	{Name: "Uncertainties", Text: "Each figure's one-sigma spread over Monte-Carlo replicas of the whole series with independent Gaussian velocity noise of the stated level added to every vector; without a given level it is estimated from the residual between each vector and the mean of its four neighbours (median absolute deviation).", Reference: ""},
+}
