@@ -38,7 +38,9 @@ Each trial puts the vortices at a random position relative to the nodes (--on-no
 them on a node) and draws new noise; the table gives the mean estimate, its bias relative
 to the exact value (the systematic error of the spacing and scheme) and its scatter (the
 standard deviation over trials, from noise and position), and the recommended scheme: the
-one with the smallest summed RMS error of the scheme-dependent quantities.
+one with the smallest summed RMS error of the scheme-dependent quantities. Under-resolution
+makes peaks low; noise raises them again (the largest of noisy values is biased up), so at
+high noise a small bias can hide a large scatter: read both columns.
 
 With no settings verify runs the built-in validation suite (core radius 5 mm, spacing
 0.5 mm, no noise) and prints pass or fail for every row against the published value, so an
