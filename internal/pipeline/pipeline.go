@@ -318,6 +318,9 @@ type StoppedError struct {
 
 // Error implements error.
 func (e *StoppedError) Error() string {
+	if errors.Is(e.Err, context.Canceled) {
+		return fmt.Sprintf("stopped after %d of %d frames: interrupted", e.Done, e.Total)
+	}
 	return fmt.Sprintf("stopped after %d of %d frames: %v", e.Done, e.Total, e.Err)
 }
 
