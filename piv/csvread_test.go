@@ -344,23 +344,32 @@ func FuzzReadCSV(f *testing.F) {
 // decimals and velocities with seven significant digits, as velocimetry exports print them).
 // It reports MB/s through SetBytes, ns per node, and the bytes allocated per decoded byte (the
 // decoded arrays are U, V and Status, 17 bytes per node); total allocation bounds peak memory.
-func BenchmarkReadCSV2048(b *testing.B) {
-	const n = 2048
+func BenchmarkReadCSV2048(b *testing.B) { benchReadCSV(b, 2048, false) }
+
+// BenchmarkReadCSVFullPrecision512 reads a 512x512 table as WriteCSV writes it (17 significant
+// digits, where the exact fast path gives way to strconv).
+func BenchmarkReadCSVFullPrecision512(b *testing.B) { benchReadCSV(b, 512, true) }
+
+func benchReadCSV(b *testing.B, n int, full bool) {
 	path := filepath.Join(b.TempDir(), "big.csv")
 	fh, err := os.Create(path)
 	if err != nil {
 		b.Fatal(err)
 	}
 	buf := []byte("x [mm],y [mm],u [m/s],v [m/s]\n")
+	digits := 7
+	if full {
+		digits = -1
+	}
 	for j := 0; j < n; j++ {
 		for i := 0; i < n; i++ {
 			buf = strconv.AppendFloat(buf, float64(i)*0.3125, 'f', 4, 64)
 			buf = append(buf, ',')
 			buf = strconv.AppendFloat(buf, float64(j)*0.3125, 'f', 4, 64)
 			buf = append(buf, ',')
-			buf = strconv.AppendFloat(buf, 0.5+0.25*math.Sin(float64(i)*0.01)*math.Cos(float64(j)*0.013), 'g', 7, 64)
+			buf = strconv.AppendFloat(buf, 0.5+0.25*math.Sin(float64(i)*0.01)*math.Cos(float64(j)*0.013), 'g', digits, 64)
 			buf = append(buf, ',')
-			buf = strconv.AppendFloat(buf, -0.1*math.Sin(float64(j)*0.02+float64(i)*0.003), 'g', 7, 64)
+			buf = strconv.AppendFloat(buf, -0.1*math.Sin(float64(j)*0.02+float64(i)*0.003), 'g', digits, 64)
 			buf = append(buf, '\n')
 		}
 		fh.Write(buf)
@@ -381,4 +390,14 @@ func BenchmarkReadCSV2048(b *testing.B) {
 	runtime.ReadMemStats(&m1)
 	b.ReportMetric(float64(m1.TotalAlloc-m0.TotalAlloc)/float64(b.N)/float64(17*n*n), "alloc/decoded")
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n*n), "ns/node")
+}
+
+func BenchmarkParseNumber(b *testing.B) {
+	cells := [][]byte{[]byte("123.4375"), []byte("0.4987323"), []byte("-0.09812734"), []byte("1.5e-3"), []byte("0.12345678901234567")}
+	b.SetBytes(int64(len(cells[0]) + len(cells[1]) + len(cells[2]) + len(cells[3]) + len(cells[4])))
+	for b.Loop() {
+		for _, c := range cells {
+			parseNumber(c)
+		}
+	}
 }

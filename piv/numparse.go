@@ -20,68 +20,80 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 // can; ok is false when the text is not such a number or the fast path cannot guarantee the
 // correctly rounded result.
 func parseFast(b []byte) (f float64, ok bool) {
+	n := len(b)
 	i := 0
 	neg := false
-	if i < len(b) && (b[i] == '-' || b[i] == '+') {
-		neg = b[i] == '-'
-		i++
+	if n > 0 && (b[0] == '-' || b[0] == '+') {
+		neg = b[0] == '-'
+		i = 1
 	}
+	// Integer digits. Leading zeros are skipped; the count of significant digits nd decides
+	// whether the mantissa m is exact (at most 15 digits; more may wrap m, but then the fast
+	// path is refused anyway).
 	var m uint64
 	nd, exp := 0, 0
-	digits, dot := false, false
-	for ; i < len(b); i++ {
-		c := b[i]
-		if c >= '0' && c <= '9' {
-			digits = true
-			if m == 0 && c == '0' {
-				if dot {
-					exp--
-				}
-				continue
-			}
-			if nd >= 15 {
-				return 0, false
-			}
-			m = m*10 + uint64(c-'0')
-			nd++
-			if dot {
-				exp--
-			}
-			continue
-		}
-		if c == '.' && !dot {
-			dot = true
-			continue
-		}
-		break
+	start := i
+	for ; i < n && b[i] == '0'; i++ {
 	}
-	if !digits {
+	for ; i < n; i++ {
+		d := b[i] - '0'
+		if d > 9 {
+			break
+		}
+		m = m*10 + uint64(d)
+		nd++
+	}
+	digits := i > start
+	if i < n && b[i] == '.' {
+		i++
+		fs := i
+		if m == 0 {
+			for ; i < n && b[i] == '0'; i++ {
+			}
+			exp = fs - i
+		}
+		fd := i
+		for ; i < n; i++ {
+			d := b[i] - '0'
+			if d > 9 {
+				break
+			}
+			m = m*10 + uint64(d)
+		}
+		nd += i - fd
+		exp -= i - fd
+		digits = digits || i > fs
+	}
+	if !digits || nd > 15 {
 		return 0, false
 	}
-	if i < len(b) && (b[i] == 'e' || b[i] == 'E') {
+	if i < n {
+		if b[i] != 'e' && b[i] != 'E' {
+			return 0, false
+		}
 		i++
 		eneg := false
-		if i < len(b) && (b[i] == '-' || b[i] == '+') {
+		if i < n && (b[i] == '-' || b[i] == '+') {
 			eneg = b[i] == '-'
 			i++
 		}
-		e, ed := 0, 0
-		for ; i < len(b) && b[i] >= '0' && b[i] <= '9'; i++ {
-			if e < 10000 {
-				e = e*10 + int(b[i]-'0')
+		e, es := 0, i
+		for ; i < n; i++ {
+			d := b[i] - '0'
+			if d > 9 {
+				return 0, false
 			}
-			ed++
+			if e < 10000 {
+				e = e*10 + int(d)
+			}
 		}
-		if ed == 0 {
+		if i == es {
 			return 0, false
 		}
 		if eneg {
 			e = -e
 		}
 		exp += e
-	}
-	if i != len(b) {
-		return 0, false
 	}
 	if m == 0 {
 		if neg {
