@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -51,6 +52,23 @@ func addReadFlags(fs *pflag.FlagSet) *readFlags {
 func (r *readFlags) options() (piv.ReadOptions, error) {
 	if r.pixelSize < 0 || r.pulseSep < 0 || r.dt < 0 {
 		return piv.ReadOptions{}, usagef("--pixel-size, --pulse-separation and --dt must not be negative")
+	}
+	// Values that parse but make no sense ("NaN", "Inf") are refused here, saying what to give.
+	for _, f := range []struct {
+		flag, want string
+		v          float64
+	}{
+		{"--pixel-size", "the size of one pixel in m/px, e.g. 2.4e-5", r.pixelSize},
+		{"--pulse-separation", "the time between the two laser pulses in s, e.g. 5e-4", r.pulseSep},
+		{"--dt", "the time between frames in s, e.g. 0.01", r.dt},
+		{"--axis", "the y coordinate of the symmetry axis in m, e.g. 0", r.axis},
+	} {
+		if math.IsNaN(f.v) || math.IsInf(f.v, 0) {
+			return piv.ReadOptions{}, usagef("%s %g is not a finite number: give %s", f.flag, f.v, f.want)
+		}
+	}
+	if r.maxNodes < 1 {
+		return piv.ReadOptions{}, usagef("--max-nodes %d: give the largest number of grid nodes to accept (at least 1)", r.maxNodes)
 	}
 	var x0, y0, dx, dy float64
 	if r.plain {
