@@ -35,7 +35,8 @@ Frames are written as frame_0000.csv, frame_0001.csv, ... (or .vtk with --format
 SI units in the header, together with a frame index frames.csv (columns file and time) that
 every series command accepts, and synth.json with the settings and the exact reference
 values (circulation, peak vorticity, impulse, ...). With --spurious, spurious.csv lists the
-nodes made spurious in each frame (the ground truth for outlier tests). With --exact the
+nodes made spurious in each frame (columns frame number, i, j, x, y: the ground truth for
+outlier tests). With --exact the
 frames carry the exact vorticity (omega_exact) and pressure (p_exact) as extra columns where
 they are known.
 
@@ -198,7 +199,7 @@ func (o *synthFlags) run(e *env, fs *pflag.FlagSet, rf *runFlags, args []string)
 		nsp += len(sp)
 	}
 	if nsp > 0 {
-		if err := writeSpurious(filepath.Join(dir, "spurious.csv"), names, spurious, g); err != nil {
+		if err := writeSpurious(filepath.Join(dir, "spurious.csv"), spurious, g); err != nil {
 			return err
 		}
 	}
@@ -440,15 +441,17 @@ func writeFrameIndex(path string, names []string, times []float64) error {
 }
 
 // writeSpurious lists the nodes the noise model made spurious, frame by frame.
-func writeSpurious(path string, names []string, spurious [][]int, g piv.Grid) error {
+func writeSpurious(path string, spurious [][]int, g piv.Grid) error {
 	return piv.WriteFileAtomic(path, func(w io.Writer) error {
-		if _, err := io.WriteString(w, "file,i,j,x [m],y [m]\n"); err != nil {
+		// The frame is given by its number, not its file name, so that the table is never
+		// taken for a frame index when the folder is read as a series.
+		if _, err := io.WriteString(w, "frame,i,j,x [m],y [m]\n"); err != nil {
 			return err
 		}
 		for k, sp := range spurious {
 			for _, n := range sp {
 				i, j := g.IJ(n)
-				if _, err := fmt.Fprintf(w, "%s,%d,%d,%s,%s\n", names[k], i, j,
+				if _, err := fmt.Fprintf(w, "%d,%d,%d,%s,%s\n", k, i, j,
 					strconv.FormatFloat(g.X(i), 'g', -1, 64), strconv.FormatFloat(g.Y(j), 'g', -1, 64)); err != nil {
 					return err
 				}

@@ -145,6 +145,14 @@ func TestSynthNoise(t *testing.T) {
 	if len(lines) != 1+2*30 { // round(0.05 * 600) = 30 per frame
 		t.Fatalf("spurious.csv has %d rows, want 60", len(lines)-1)
 	}
+	if !strings.HasPrefix(lines[0], "frame,i,j,") || !strings.HasPrefix(lines[len(lines)-1], "1,") {
+		t.Errorf("spurious.csv rows: first %q, last %q", lines[0], lines[len(lines)-1])
+	}
+	// The folder still reads as a series with its times: the table is not a frame index.
+	s, err := piv.OpenSeries([]string{d1}, piv.ReadOptions{})
+	if err != nil || s.Len() != 2 || s.Time(1) != 0.01 {
+		t.Fatalf("reading the folder back: %v", err)
+	}
 	a0, _ := os.ReadFile(filepath.Join(d1, "frame_0000.csv"))
 	a1, _ := os.ReadFile(filepath.Join(d1, "frame_0001.csv"))
 	if bytes.Equal(a0, a1) {
