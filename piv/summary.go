@@ -77,3 +77,29 @@ func Timing(s *Series) (mean, lo, hi float64) {
 	}
 	return s.MeanDT(), lo, hi
 }
+
+// ContinuityResidual is a quality hint for a frame: the root mean square of a divergence field
+// div (one value per node, NaN where undefined; in-plane, or with the hoop term v/r for
+// axisymmetric data) over the nodes where it is defined, divided by the velocity-gradient scale
+// of the grid, URMS/h, with URMS the RMS speed of the valid nodes and h = min(DX, DY). The
+// continuity equation makes the divergence vanish for incompressible planar or axisymmetric
+// flow, so what remains is measurement noise, out-of-plane motion and truncation error: near 0
+// is clean, near 1 means the vectors differ at grid scale by as much as they are large (common
+// practice). rms is the RMS divergence [1/s] and nodes the number of nodes it was taken over.
+// All three are NaN (nodes 0) when no node has a divergence or the field is at rest.
+func ContinuityResidual(f *Field, div []float64) (residual, rms float64, nodes int) {
+	var sq float64
+	for _, d := range div {
+		if !math.IsNaN(d) {
+			sq += d * d
+			nodes++
+		}
+	}
+	s := Summarize(f)
+	if nodes == 0 || !(s.URMS > 0) {
+		return math.NaN(), math.NaN(), nodes
+	}
+	rms = math.Sqrt(sq / float64(nodes))
+	h := math.Min(f.Grid.DX, f.Grid.DY)
+	return rms / (s.URMS / h), rms, nodes
+}

@@ -63,3 +63,22 @@ func TestTiming(t *testing.T) {
 		t.Errorf("single frame dt %v", m)
 	}
 }
+
+// Hand values: speeds 3, 4 and 0 m/s at three valid nodes give URMS = sqrt((9+16+0)/3) =
+// sqrt(25/3) m/s; divergences 2 and -2 1/s (NaN elsewhere) give RMS 2 1/s; with h = 0.5 m the
+// residual is 2 / (sqrt(25/3)/0.5) = 1/sqrt(25/3) = 0.34641.
+func TestContinuityResidual(t *testing.T) {
+	f := NewField(Grid{NX: 2, NY: 2, DX: 0.5, DY: 1})
+	f.Set(0, 3, 0)
+	f.Set(1, 0, 4)
+	f.Set(2, 0, 0)
+	div := []float64{2, math.NaN(), -2, math.NaN()}
+	res, rms, n := ContinuityResidual(f, div)
+	want := 1 / math.Sqrt(25.0/3)
+	if math.Abs(res-want) > 1e-15 || rms != 2 || n != 2 {
+		t.Errorf("residual %v rms %v over %d, want %v 2 over 2", res, rms, n, want)
+	}
+	if res, _, n := ContinuityResidual(f, []float64{math.NaN(), math.NaN(), math.NaN(), math.NaN()}); !math.IsNaN(res) || n != 0 {
+		t.Errorf("no divergence: %v %d", res, n)
+	}
+}

@@ -8,6 +8,7 @@ import (
 
 	"github.com/spf13/pflag"
 	"github.com/wakekit/wakekit/piv"
+	"github.com/wakekit/wakekit/vorticity"
 )
 
 func init() {
@@ -18,7 +19,10 @@ func init() {
 		help: `Reads a frame (a CSV table, or a u and a v matrix with --plain) or a series (several
 files, a glob, a folder or a frame index CSV) and prints how it was read and what it holds:
 columns and units found, grid size and spacing, extent, geometry, the share of valid nodes,
-velocity ranges and means, and the frame count and time step of a series. All values are
+velocity ranges and means, the frame count and time step of a series, and the continuity
+residual: the RMS divergence (central differences; with the hoop term v/r for --axisymmetric)
+relative to the velocity-gradient scale RMS speed / spacing, a quality hint that is near 0 for
+clean incompressible data and near 1 for vectors that are noise at grid scale. All values are
 printed in SI units. Only the first frame is read unless --all is given, which reads every
 frame and checks that they share one grid. Nothing is written unless --json names a file.
 
@@ -96,6 +100,10 @@ type inspectReport struct {
 	DT           piv.JSONFloat `json:"dt_mean_s"`
 	DTMin        piv.JSONFloat `json:"dt_min_s"`
 	DTMax        piv.JSONFloat `json:"dt_max_s"`
+	// Continuity residual of the first frame: RMS divergence [1/s] and its ratio to URMS/h.
+	DivergenceRMS      piv.JSONFloat `json:"divergence_rms_1_s"`
+	ContinuityResidual piv.JSONFloat `json:"continuity_residual"`
+	DivergenceNodes    int           `json:"divergence_nodes"`
 	// With --all: valid share over all frames.
 	AllFrames     bool          `json:"all_frames_read"`
 	ValidShareMin piv.JSONFloat `json:"valid_share_min"`
@@ -126,6 +134,9 @@ func inspect(args []string, opt piv.ReadOptions, all bool) (*inspectReport, erro
 		DT: jf(dt), DTMin: jf(dtMin), DTMax: jf(dtMax),
 		ValidShareMin: jf(sum.ValidShare), ValidShareMax: jf(sum.ValidShare),
 	}
+	div := vorticity.NewGradient(f, vorticity.Central).Divergence()
+	res, rms, nodes := piv.ContinuityResidual(f, div)
+	r.ContinuityResidual, r.DivergenceRMS, r.DivergenceNodes = jf(res), jf(rms), nodes
 	if all {
 		r.AllFrames = true
 		lo, hi := sum.ValidShare, sum.ValidShare
@@ -186,6 +197,12 @@ func (r *inspectReport) print(w io.Writer) {
 			dt = fmt.Sprintf("mean dt %.6g s (from %.6g to %.6g s)", r.DT, r.DTMin, r.DTMax)
 		}
 		line("frames", "%d, %s, t %.6g .. %.6g s", r.Frames, dt, r.T0, r.T1)
+	}
+	if r.DivergenceNodes > 0 && !math.IsNaN(float64(r.ContinuityResidual)) {
+		line("continuity", "RMS divergence %.4g 1/s = %.3g of RMS speed / spacing (central differences, %d nodes)",
+			r.DivergenceRMS, r.ContinuityResidual, r.DivergenceNodes)
+	} else {
+		line("continuity", "not available (no node has the neighbours for a divergence, or the field is at rest)")
 	}
 	if r.AllFrames {
 		line("all frames", "one grid; valid share %.1f%% .. %.1f%%", 100*float64(r.ValidShareMin), 100*float64(r.ValidShareMax))

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -12,7 +13,10 @@ import (
 // The small test file holds u = 0.1*i m/s and v = 0.05*j m/s on a 5x4 grid at 1 mm, with node
 // (2,1) NaN and node (4,3) absent. Hand values: 18 of 20 nodes valid (90.0%); mean u =
 // (4.0 - 0.2 - 0.4)/18 = 0.18889 m/s; mean v = (1.5 - 0.05 - 0.15)/18 = 0.072222 m/s; largest
-// speed at (4,2): hypot(0.4, 0.1) = 0.41231 m/s.
+// speed at (4,2): hypot(0.4, 0.1) = 0.41231 m/s. The field is linear, so every difference
+// scheme gives its divergence exactly: du/dx + dv/dy = 0.1/1e-3 + 0.05/1e-3 = 150 1/s; the RMS
+// speed is sqrt((1.0 + 0.15)/18) = 0.25276 m/s (sums of u^2 and v^2 over the valid nodes), so
+// the continuity residual is 150 * 1e-3 / 0.25276 = 0.59345.
 func TestInspectSmallFile(t *testing.T) {
 	in := filepath.Join("..", "..", "testdata", "inspect", "tank2-run3-frame_0001.csv")
 	out := filepath.Join(t.TempDir(), "summary.json")
@@ -25,6 +29,7 @@ func TestInspectSmallFile(t *testing.T) {
 		"5 x 4 nodes, spacing 0.001 x 0.001 m", "x 0 .. 0.004 m, y 0 .. 0.003 m", "planar",
 		"90.0% of 20 nodes (18 measured, 0 replaced, 2 missing, 0 solid)",
 		"0 .. 0.4 m/s, mean 0.1889 m/s", "0 .. 0.15 m/s, mean 0.07222 m/s", "max 0.4123 m/s", "frames       1",
+		"RMS divergence 150 1/s = 0.593 of RMS speed / spacing",
 	} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("output lacks %q:\n%s", want, stdout)
@@ -40,6 +45,34 @@ func TestInspectSmallFile(t *testing.T) {
 	}
 	if rep.NX != 5 || rep.NY != 4 || rep.Missing != 2 || float64(rep.ValidShare) != 0.9 || rep.LengthUnit != "mm" {
 		t.Errorf("JSON summary %+v", rep)
+	}
+}
+
+// Solid-body rotation u = -W y, v = W x is divergence-free (and linear, so central differences
+// are exact): the residual must vanish to round-off.
+func TestInspectContinuityOfRotation(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("x [m],y [m],u [m/s],v [m/s]\n")
+	const w = 3.0
+	for j := 0; j < 12; j++ {
+		for i := 0; i < 15; i++ {
+			x, y := float64(i)*0.002-0.01, float64(j)*0.002-0.01
+			fmt.Fprintf(&b, "%g,%g,%g,%g\n", x, y, -w*y, w*x)
+		}
+	}
+	in := filepath.Join(t.TempDir(), "rotation.csv")
+	os.WriteFile(in, []byte(b.String()), 0o644)
+	out := filepath.Join(t.TempDir(), "s.json")
+	if code, _, stderr := runCapture("inspect", "--json", out, in); code != 0 {
+		t.Fatalf("status %d: %s", code, stderr)
+	}
+	data, _ := os.ReadFile(out)
+	var rep inspectReport
+	json.Unmarshal(data, &rep)
+	// Round-off: coordinates and velocities carry 1e-16 relative error, differences divide by
+	// 2e-3 m, so the divergence is of order 1e-13 1/s against a gradient scale of about 3 1/s.
+	if rep.DivergenceNodes != 180 || !(float64(rep.ContinuityResidual) < 1e-12) {
+		t.Errorf("rotation: residual %v over %d nodes", rep.ContinuityResidual, rep.DivergenceNodes)
 	}
 }
 
