@@ -76,8 +76,9 @@ func (n Noise) Zero() bool {
 }
 
 // Apply adds the modelled error to f in place and returns the sorted indices of the nodes made
-// spurious (the ground truth for outlier tests). Invalid nodes are left as they are. Replaced
-// vectors stay Measured: the error is part of the measurement.
+// spurious (the ground truth for outlier tests). Invalid nodes are left as they are. Noisy and
+// spurious vectors keep their status (Measured for a sampled flow): the error is part of the
+// measurement, for the validation tests to find.
 func (n Noise) Apply(f *piv.Field) ([]int, error) {
 	sigma, err := n.SigmaSI()
 	if err != nil {
