@@ -121,6 +121,15 @@ func TestVorticityUncertaintyField(t *testing.T) {
 				sum2[k] += w * w
 			}
 		}
+		// At a node with full stencils the field equals the grid-level figure.
+		for k, st := range stencils {
+			if st == fullStencil {
+				if want := VorticityNoise(sc, g, sigma); math.Abs(pred[k]-want) > 1e-12*want {
+					t.Fatalf("%s: full-stencil uncertainty %.6g, VorticityNoise %.6g", sc, pred[k], want)
+				}
+				break
+			}
+		}
 		ratio := map[Stencil][]float64{}
 		for k, p := range pred {
 			if math.IsNaN(p) {
@@ -145,5 +154,16 @@ func TestVorticityUncertaintyField(t *testing.T) {
 		if len(ratio) < 4 {
 			t.Errorf("%s: only %d stencil classes exercised", sc, len(ratio))
 		}
+	}
+}
+
+// TestRange checks Range on a hand-made slice (the values are their own reference).
+func TestRange(t *testing.T) {
+	lo, hi, n := Range([]float64{math.NaN(), 3, -2, math.Inf(1), 7, 0})
+	if lo != -2 || hi != 7 || n != 4 {
+		t.Errorf("Range = %g, %g, %d; want -2, 7, 4", lo, hi, n)
+	}
+	if lo, hi, n := Range([]float64{math.NaN()}); !math.IsNaN(lo) || !math.IsNaN(hi) || n != 0 {
+		t.Errorf("Range of no finite values = %g, %g, %d", lo, hi, n)
 	}
 }

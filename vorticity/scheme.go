@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"github.com/wakekit/wakekit/piv"
 )
 
 // Scheme selects the difference scheme for spatial derivatives.
@@ -111,3 +113,29 @@ func NoiseFactor(s Scheme) float64 { return math.Sqrt(sumSq(s, StencilFull)) }
 // use different components, so their errors add in quadrature: central 1, Richardson 1.344,
 // least-squares 0.447, circulation sqrt(3/8) = 0.612.
 func VorticityNoiseFactor(s Scheme) float64 { return math.Sqrt(2 * sumSq(s, StencilFull)) }
+
+// VorticityNoise returns the random error [1/s] of the vorticity computed with the scheme's
+// full stencils on grid g from velocities with independent random errors sigma [m/s] in each
+// component: sigma * sqrt(w/DX^2 + w/DY^2), w the sum of squared weights of one derivative.
+// On a square grid it is VorticityNoiseFactor(s) * sigma / DX. Nodes that fall back to other
+// stencils have the errors given by Gradient.VorticityUncertainty.
+func VorticityNoise(s Scheme, g piv.Grid, sigma float64) float64 {
+	w := sumSq(s, StencilFull)
+	return sigma * math.Sqrt(w/(g.DX*g.DX)+w/(g.DY*g.DY))
+}
+
+// Range returns the smallest and largest finite values of v and how many there are (NaN,
+// NaN, 0 when there are none).
+func Range(v []float64) (lo, hi float64, n int) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, x := range v {
+		if x == x && !math.IsInf(x, 0) {
+			lo, hi = min(lo, x), max(hi, x)
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN(), math.NaN(), 0
+	}
+	return lo, hi, n
+}
