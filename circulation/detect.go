@@ -223,7 +223,7 @@ func Detect(f *piv.Field, c Criterion, crit, omega []float64, opt DetectOptions)
 				continue
 			}
 			r := math.Max(fr*co.EqRadius, 3*math.Max(g.DX, g.DY))
-			fit, err := FitLambOseen(f, co.X, co.Y, r, FitOptions{MaxNodes: maxDetectFitNodes})
+			fit, err := FitLambOseen(f, co.X, co.Y, r, FitOptions{MaxNodes: maxDetectFitNodes, Strain: true})
 			if err == nil && fit.Gamma*float64(co.Sign) > 0 && fit.Rc < r {
 				co.CoreRadius = fit.Rc
 				co.Fit = &fit
@@ -242,6 +242,15 @@ func Detect(f *piv.Field, c Criterion, crit, omega []float64, opt DetectOptions)
 // 300 nodes (600 velocity components) for 4 to 6 parameters the statistical error of r_c is
 // well below the spread of r_c along a track, and detection stays fast on large frames.
 const maxDetectFitNodes = 300
+
+// Centre returns the best estimate of the core's centre: the fitted Lamb–Oseen centre when
+// the fit succeeded (sub-grid precision), otherwise the vorticity-weighted centroid.
+func (c *Core) Centre() (x, y float64) {
+	if c.Fit != nil {
+		return c.Fit.X, c.Fit.Y
+	}
+	return c.X, c.Y
+}
 
 func signOf(w float64) int8 {
 	switch {

@@ -30,10 +30,14 @@ type FitOptions struct {
 	// fitted with it, which absorbs the convection of the vortex and the leading part of the
 	// velocity induced by other vortices.
 	NoBackground bool
+	// Strain adds a uniform strain (irrotational and divergence-free) to the background, the
+	// leading non-uniform part of the velocity other vortices induce; detection uses it, so
+	// that a neighbour does not bias the fitted centre. Ignored with NoBackground.
+	Strain bool
 	// MaxIterations bounds the optimiser's iterations (0 means 200).
 	MaxIterations int
-	// MaxNodes, when positive, thins the nodes within the fit radius to about this many by
-	// taking every k-th row and column, to bound the cost of fits inside detection.
+	// MaxNodes, when positive, shrinks the fit radius so that the disc holds about this many
+	// nodes, to bound the cost of fits inside detection.
 	MaxNodes int
 }
 
@@ -53,18 +57,35 @@ type LambOseenFit struct {
 }
 
 // loModel evaluates the Lamb–Oseen model with background in scaled parameters and, when jac is
-// non-nil, its Jacobian. Parameters p: Γ/Γs, rc/L, (xc-x0)/L, (yc-y0)/L, U/Us, V/Us; residuals
-// are (model - data)/Us for u then v at each node.
+// non-nil, its Jacobian. Parameters p: Γ/Γs, rc/L, (xc-x0)/L, (yc-y0)/L, then with a background
+// U/Us, V/Us, and with strain A, B [Us/L] of the irrotational, divergence-free linear field
+// (A X + B Y, B X - A Y) about (x0, y0); residuals are (model - data)/Us for u then v.
 type loModel struct {
 	xs, ys, us, vs []float64 // node offsets from (x0, y0) in units of L, velocities in units of Us
-	bg             bool
+	bg, strain     bool
 }
 
 func (m *loModel) np() int {
-	if m.bg {
+	switch {
+	case m.strain:
+		return 8
+	case m.bg:
 		return 6
 	}
 	return 4
+}
+
+// background returns the background velocity at node k and the parameters it uses.
+func (m *loModel) background(p []float64, k int) (u, v float64) {
+	if m.bg {
+		u, v = p[4], p[5]
+	}
+	if m.strain {
+		X, Y := m.xs[k], m.ys[k]
+		u += p[6]*X + p[7]*Y
+		v += p[7]*X - p[6]*Y
+	}
+	return u, v
 }
 
 // gfun returns g(s) = (1 - exp(-s/a²))/s and its derivatives dg/ds and dg/da (in units of L).
@@ -89,12 +110,9 @@ func gfun(s, a float64) (g, gs, ga float64) {
 func (m *loModel) residuals(p, r []float64, jac *mat.Dense) {
 	// With Γ in units of Γs and velocities in units of Us = Γs/(2πL), c = Γ/(2π) becomes p[0].
 	c, a, xc, yc := p[0], p[1], p[2], p[3]
-	var ub, vb float64
-	if m.bg {
-		ub, vb = p[4], p[5]
-	}
 	n := len(m.xs)
 	for k := 0; k < n; k++ {
+		ub, vb := m.background(p, k)
 		dx, dy := m.xs[k]-xc, m.ys[k]-yc
 		s := dx*dx + dy*dy
 		g, gs, ga := gfun(s, a)
@@ -117,6 +135,13 @@ func (m *loModel) residuals(p, r []float64, jac *mat.Dense) {
 			jac.Set(k, 5, 0)
 			jac.Set(n+k, 5, 1)
 		}
+		if m.strain {
+			X, Y := m.xs[k], m.ys[k]
+			jac.Set(k, 6, X)
+			jac.Set(n+k, 6, -Y)
+			jac.Set(k, 7, Y)
+			jac.Set(n+k, 7, X)
+		}
 	}
 }
 
@@ -124,12 +149,9 @@ func (m *loModel) residuals(p, r []float64, jac *mat.Dense) {
 // 2Jᵀr, without storing the Jacobian (the optimiser's inner loop).
 func (m *loModel) sumSquares(p, grad []float64) float64 {
 	c, a, xc, yc := p[0], p[1], p[2], p[3]
-	var ub, vb float64
-	if m.bg {
-		ub, vb = p[4], p[5]
-	}
-	var f, g0, g1, g2, g3, g4, g5 float64
+	var f, g0, g1, g2, g3, g4, g5, g6, g7 float64
 	for k := range m.xs {
+		ub, vb := m.background(p, k)
 		dx, dy := m.xs[k]-xc, m.ys[k]-yc
 		s := dx*dx + dy*dy
 		g, gs, ga := gfun(s, a)
@@ -145,11 +167,17 @@ func (m *loModel) sumSquares(p, grad []float64) float64 {
 		g3 += (c*g+2*c*dy*dy*gs)*ru - 2*c*dx*dy*gs*rv
 		g4 += ru
 		g5 += rv
+		X, Y := m.xs[k], m.ys[k]
+		g6 += X*ru - Y*rv
+		g7 += Y*ru + X*rv
 	}
 	if grad != nil {
 		grad[0], grad[1], grad[2], grad[3] = 2*g0, 2*g1, 2*g2, 2*g3
 		if m.bg {
 			grad[4], grad[5] = 2*g4, 2*g5
+		}
+		if m.strain {
+			grad[6], grad[7] = 2*g6, 2*g7
 		}
 	}
 	return f
@@ -163,25 +191,26 @@ const maxFitNodes = 200_000
 // minimising the sum of squared velocity residuals with gonum's BFGS method and the exact
 // gradient. The starting Γ and r_c come from the binned tangential velocity about (x0, y0).
 func FitLambOseen(f *piv.Field, x0, y0, rmax float64, opt FitOptions) (LambOseenFit, error) {
-	nodes := nodesWithin(f, x0, y0, rmax, 1)
-	if opt.MaxNodes > 0 && len(nodes) > opt.MaxNodes {
-		stride := int(math.Ceil(math.Sqrt(float64(len(nodes)) / float64(opt.MaxNodes))))
-		nodes = nodesWithin(f, x0, y0, rmax, stride)
+	if opt.MaxNodes > 0 {
+		if r := math.Sqrt(float64(opt.MaxNodes) * f.Grid.DX * f.Grid.DY / math.Pi); r < rmax {
+			rmax = r
+		}
 	}
+	nodes := nodesWithin(f, x0, y0, rmax)
 	return fitNodes(f, nodes, x0, y0, rmax, opt)
 }
 
-// nodesWithin lists the valid nodes of f within r of (x, y), on every stride-th row and column.
-func nodesWithin(f *piv.Field, x, y, r float64, stride int) []int {
+// nodesWithin lists the valid nodes of f within r of (x, y).
+func nodesWithin(f *piv.Field, x, y, r float64) []int {
 	g := f.Grid
 	fa, fb := g.Frac(x-r, y-r)
 	fc, fd := g.Frac(x+r, y+r)
 	i0, j0 := max(0, int(math.Ceil(fa))), max(0, int(math.Ceil(fb)))
 	i1, j1 := min(g.NX-1, int(math.Floor(fc))), min(g.NY-1, int(math.Floor(fd)))
 	var out []int
-	for j := j0; j <= j1; j += stride {
+	for j := j0; j <= j1; j++ {
 		dy := g.Y(j) - y
-		for i := i0; i <= i1; i += stride {
+		for i := i0; i <= i1; i++ {
 			dx := g.X(i) - x
 			k := g.Index(i, j)
 			if dx*dx+dy*dy <= r*r && f.Valid(k) {
@@ -198,7 +227,7 @@ func fitNodes(f *piv.Field, nodes []int, x0, y0, rmax float64, opt FitOptions) (
 	if !(rmax > 0) || math.IsInf(rmax, 0) {
 		return res, fmt.Errorf("%s: fit radius %g must be positive and finite", f.Name(), rmax)
 	}
-	m := &loModel{bg: !opt.NoBackground}
+	m := &loModel{bg: !opt.NoBackground, strain: opt.Strain && !opt.NoBackground}
 	if len(nodes) < 3*m.np() {
 		return res, fmt.Errorf("%s: only %d valid nodes within %.6g m of (%.6g, %.6g) m; a Lamb–Oseen fit needs at least %d",
 			f.Name(), len(nodes), rmax, x0, y0, 3*m.np())

@@ -214,17 +214,17 @@ func TestLineAreaStokes(t *testing.T) {
 // The analytic Jacobian of the Lamb–Oseen model against gonum's central finite differences
 // (gonum diff/fd), to 1e-6 relative.
 func TestFitJacobian(t *testing.T) {
-	m := &loModel{bg: true, xs: []float64{0.3, -1.2, 2.5, 0.01, 0}, ys: []float64{-0.7, 0.4, 1.9, 0.02, 0},
+	m := &loModel{bg: true, strain: true, xs: []float64{0.3, -1.2, 2.5, 0.01, 0}, ys: []float64{-0.7, 0.4, 1.9, 0.02, 0},
 		us: make([]float64, 5), vs: make([]float64, 5)}
-	p := []float64{1.3, 0.9, 0.05, -0.1, 0.2, -0.3}
+	p := []float64{1.3, 0.9, 0.05, -0.1, 0.2, -0.3, 0.07, -0.04}
 	n := 2 * len(m.xs)
-	an := mat.NewDense(n, 6, nil)
+	an := mat.NewDense(n, 8, nil)
 	r := make([]float64, n)
 	m.residuals(p, r, an)
-	num := mat.NewDense(n, 6, nil)
+	num := mat.NewDense(n, 8, nil)
 	fd.Jacobian(num, func(y, x []float64) { m.residuals(x, y, nil) }, p, &fd.JacobianSettings{Formula: fd.Central})
 	for i := 0; i < n; i++ {
-		for j := 0; j < 6; j++ {
+		for j := 0; j < 8; j++ {
 			if a, b := an.At(i, j), num.At(i, j); math.Abs(a-b) > 1e-6*(1+math.Abs(b)) {
 				t.Errorf("J[%d][%d] = %.10g, finite differences %.10g", i, j, a, b)
 			}

@@ -27,7 +27,7 @@ type TrackPoint struct {
 	Time  float64
 	// Core is the core's index in its frame's list.
 	Core int
-	// X, Y is the core centroid [m]; Gamma its circulation [m²/s]; EqRadius and CoreRadius
+	// X, Y is the core centre [m] (Core.Centre: fitted if available); Gamma its circulation [m²/s]; EqRadius and CoreRadius
 	// its equivalent and fitted core radius [m].
 	X, Y, Gamma, EqRadius, CoreRadius float64
 	// U, V is the smoothed convection velocity [m/s] (NaN for a single-point track).
@@ -108,7 +108,8 @@ func (tr *Tracker) Add(frame int, t float64, cores []Core) error {
 			if co.Sign != st.Sign || math.IsNaN(co.X) {
 				continue
 			}
-			if d := math.Hypot(co.X-px, co.Y-py); d <= gate {
+			cx, cy := co.Centre()
+			if d := math.Hypot(cx-px, cy-py); d <= gate {
 				links = append(links, link{d, a, c})
 			}
 		}
@@ -161,7 +162,8 @@ func (tr *Tracker) Add(frame int, t float64, cores []Core) error {
 }
 
 func pointOf(frame int, t float64, c int, co *Core) TrackPoint {
-	return TrackPoint{Frame: frame, Time: t, Core: c, X: co.X, Y: co.Y, Gamma: co.Gamma,
+	x, y := co.Centre()
+	return TrackPoint{Frame: frame, Time: t, Core: c, X: x, Y: y, Gamma: co.Gamma,
 		EqRadius: co.EqRadius, CoreRadius: co.CoreRadius, U: math.NaN(), V: math.NaN()}
 }
 
