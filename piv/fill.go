@@ -384,3 +384,91 @@ func fillMedian(f *Field, label []int32, eligible []bool, minNb int) {
 		todo = rest
 	}
 }
+
+// SmoothMethod chooses the smoothing filter of Clean.
+type SmoothMethod int
+
+const (
+	// NoSmoothing leaves the vectors as validated and filled.
+	NoSmoothing SmoothMethod = iota
+	// SmoothGaussianFilter applies SmoothGaussian.
+	SmoothGaussianFilter
+	// SmoothSGFilter applies SmoothSavitzkyGolay.
+	SmoothSGFilter
+)
+
+// CleanOptions is a whole cleaning pass: validation, then filling, then smoothing.
+type CleanOptions struct {
+	Validate ValidateOptions
+	// Fill, when not nil, fills the gaps left by validation (and any others).
+	Fill *FillOptions
+	// Smooth chooses the filter; Sigma [nodes] is the Gaussian's, SGHalf and SGOrder the
+	// Savitzky–Golay window half-width and order.
+	Smooth          SmoothMethod
+	Sigma           float64
+	SGHalf, SGOrder int
+}
+
+// CleanReport counts what a cleaning pass did to one frame (or, summed with Add, to a series).
+type CleanReport struct {
+	Nodes      int              // nodes of the grid
+	Solid      int              // solid nodes
+	Validation ValidationCounts // vectors checked and rejected per test
+	Filled     int              // nodes filled (Replaced)
+	Missing    int              // non-solid nodes without a vector after cleaning
+}
+
+// Add adds the counts of o to r.
+func (r *CleanReport) Add(o CleanReport) {
+	r.Nodes += o.Nodes
+	r.Solid += o.Solid
+	r.Validation.Checked += o.Validation.Checked
+	r.Validation.Range += o.Validation.Range
+	r.Validation.Median += o.Validation.Median
+	r.Validation.Std += o.Validation.Std
+	r.Filled += o.Filled
+	r.Missing += o.Missing
+}
+
+// SpuriousShare is the share of the checked vectors that validation rejected, the quality
+// figure of a cleaning pass (0 when nothing was checked).
+func (r CleanReport) SpuriousShare() float64 {
+	if r.Validation.Checked == 0 {
+		return 0
+	}
+	return float64(r.Validation.Rejected()) / float64(r.Validation.Checked)
+}
+
+// Clean validates, fills and smooths f in place, in that order, and reports the counts.
+func Clean(f *Field, opt CleanOptions) (CleanReport, error) {
+	r := CleanReport{Nodes: f.Grid.N()}
+	var err error
+	if r.Validation, err = Validate(f, opt.Validate); err != nil {
+		return r, err
+	}
+	if opt.Fill != nil {
+		c, err := Fill(f, *opt.Fill)
+		if err != nil {
+			return r, err
+		}
+		r.Filled = c.Filled
+	}
+	switch opt.Smooth {
+	case SmoothGaussianFilter:
+		err = SmoothGaussian(f, opt.Sigma)
+	case SmoothSGFilter:
+		err = SmoothSavitzkyGolay(f, opt.SGHalf, opt.SGOrder)
+	}
+	if err != nil {
+		return r, err
+	}
+	for k, s := range f.Status {
+		switch {
+		case s.Kind() == Solid:
+			r.Solid++
+		case !f.Valid(k):
+			r.Missing++
+		}
+	}
+	return r, nil
+}

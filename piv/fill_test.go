@@ -176,3 +176,47 @@ func TestLaplaceFillNextToSolidAndEdge(t *testing.T) {
 		}
 	}
 }
+
+func TestCleanPass(t *testing.T) {
+	// The whole pass on a Lamb–Oseen field with injected outliers: the outliers are rejected
+	// and replaced, and the replaced vectors are close to the exact field (Laplace fill of
+	// isolated nodes: error well below the injected outliers' size, see the fill tests).
+	want, peak := vortexField()
+	f := want.Clone()
+	g := f.Grid
+	bad := []int{g.Index(10, 10), g.Index(40, 33), g.Index(33, 40), g.Index(50, 12)}
+	for _, k := range bad {
+		f.U[k] += 3 * peak
+	}
+	f.MaskSolid(Rect{X0: 0, Y0: 0, X1: 3 * g.DX, Y1: 3 * g.DY})
+	r, err := Clean(f, CleanOptions{
+		Validate: ValidateOptions{Median: &MedianOptions{Epsilon: DefaultMedianEpsilonPx}},
+		Fill:     &FillOptions{MaxGap: 10},
+		Smooth:   SmoothGaussianFilter, Sigma: 0.5,
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Validation.Median != len(bad) || r.Filled != len(bad) || r.Missing != 0 || r.Solid != 16 {
+		t.Fatalf("report %+v", r)
+	}
+	if s := r.SpuriousShare(); math.Abs(s-float64(len(bad))/float64(g.N()-16)) > 1e-15 {
+		t.Fatalf("spurious share %g", s)
+	}
+	for _, k := range bad {
+		if f.Status[k] != Replaced|RejectedMedian {
+			t.Fatalf("node %d status %v", k, f.Status[k])
+		}
+		// Within 10% of the peak swirl: the Laplace error of one node is of order h²|Δu|/4
+		// and the σ = 0.5 Gaussian changes the smooth field by a few per cent there.
+		if math.Abs(f.U[k]-want.U[k]) > 0.1*peak {
+			t.Fatalf("node %d cleaned to %g, exact %g", k, f.U[k], want.U[k])
+		}
+	}
+	var total CleanReport
+	total.Add(r)
+	total.Add(r)
+	if total.Filled != 2*len(bad) || total.Validation.Checked != 2*r.Validation.Checked {
+		t.Fatalf("sum %+v", total)
+	}
+}
