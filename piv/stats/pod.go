@@ -118,6 +118,30 @@ func (m *Modes) Field(k int) *piv.Field {
 	return f
 }
 
+// ScaledField returns mode k scaled to velocity: √λ_k·φ_k [m/s], the RMS velocity the mode
+// contributes at each node. With UnitCoeffs it splits each fluctuation snapshot as
+// x_j = Σ_k UnitCoeffs(k)[j]·ScaledField(k).
+func (m *Modes) ScaledField(k int) *piv.Field {
+	f := m.Field(k)
+	s := math.Sqrt(m.Energies[k])
+	for q := range f.U {
+		f.U[q] *= s
+		f.V[q] *= s
+	}
+	return f
+}
+
+// UnitCoeffs returns the temporal coefficients of mode k divided by √λ_k: dimensionless, with
+// a mean square of one.
+func (m *Modes) UnitCoeffs(k int) []float64 {
+	s := math.Sqrt(m.Energies[k])
+	c := make([]float64, len(m.Coeffs[k]))
+	for j, a := range m.Coeffs[k] {
+		c[j] = a / s
+	}
+	return c
+}
+
 // Decompose computes the first nModes modes. It needs at least two snapshots, at least one
 // node valid in every snapshot, and 1 ≤ nModes ≤ N − 1 (removing the mean leaves N − 1
 // independent snapshots). It reuses the stored snapshots as scratch: call it once.

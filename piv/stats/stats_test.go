@@ -220,6 +220,16 @@ func TestPODKnownModes(t *testing.T) {
 	if c := m.Cumulative(); math.Abs(c[2]-1) > 1e-12 {
 		t.Errorf("three modes hold %g of the energy, want 1", c[2])
 	}
+	// The velocity-scaled modes and unit coefficients split the snapshots the same way.
+	for q := 0; q < n; q++ {
+		u := m.MeanU[q]
+		for k := 0; k < 3; k++ {
+			u += m.UnitCoeffs(k)[11] * m.ScaledField(k).U[q]
+		}
+		if math.Abs(u-frames[11].U[q]) > 1e-12 {
+			t.Fatalf("snapshot 12 node %d: scaled reconstruction %g, stored %g", q, u, frames[11].U[q])
+		}
+	}
 	// Reconstruction of a snapshot from mean + Σ a φ.
 	for q := 0; q < n; q++ {
 		u := m.MeanU[q]
