@@ -377,9 +377,20 @@ func (c *csvReader) layout(cells []string) error {
 			c.cellOf[s] = found
 		}
 	} else if c.header {
+		// Exact names first ("u", "vx"), then the last word of longer names ("velocity u").
 		for k, n := range names {
 			s, ok := headerSlot[strings.ToLower(n)]
 			if ok && c.cellOf[s] < 0 {
+				c.cellOf[s] = k
+			}
+		}
+		for k, n := range names {
+			w := strings.Fields(strings.ToLower(n))
+			if len(w) < 2 {
+				continue
+			}
+			s, ok := headerSlot[w[len(w)-1]]
+			if ok && c.cellOf[s] < 0 && !slices.Contains(c.cellOf[:], k) {
 				c.cellOf[s] = k
 			}
 		}

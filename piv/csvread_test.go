@@ -34,7 +34,8 @@ func TestReadCSVLayouts(t *testing.T) {
 		"tab, vx vy, extra column":                 "x [mm]\ty [mm]\tp [Pa]\tvx [m/s]\tvy [m/s]\n0\t0\t9\t1\t-1\n1\t0\t9\t2\t-2\n2\t0\t9\t3\t-3\n0\t1\t9\t11\t-11\n1\t1\t9\t12\t-12\n",
 		"spaces, comments, CRLF, shuffled":         "# exported by an invented tank rig\r\nx [mm]   y [mm]   U [m/s]  V [m/s]\r\n  1 1 12 -12\r\n\r\n# a comment\r\n0 0 1 -1\r\n2 0 3 -3\r\n1 0 2 -2\r\n0 1 11 -11\r\n",
 		"underscore units, y fastest, missing row": "x_mm,y_mm,u,v\n0,0,1,-1\n0,1,11,-11\n1,0,2,-2\n1,1,12,-12\n2,0,3,-3\n2,1,NaN,NaN\n",
-		"quoted header, status":                    "\"x [mm]\",\"y [mm]\",\"u [m/s]\",\"v [m/s]\",\"status\"\n0,0,1,-1,measured\n1,0,2,-2,0\n2,0,3,-3,measured\n0,1,11,-11,measured\n1,1,12,-12,measured\n2,1,5,5,missing\n",
+		"long names":            "Position x [mm],Position y [mm],Velocity u [m/s],Velocity v [m/s],u mean [m/s]\n0,0,1,-1,7\n1,0,2,-2,7\n2,0,3,-3,7\n0,1,11,-11,7\n1,1,12,-12,7\n",
+		"quoted header, status": "\"x [mm]\",\"y [mm]\",\"u [m/s]\",\"v [m/s]\",\"status\"\n0,0,1,-1,measured\n1,0,2,-2,0\n2,0,3,-3,measured\n0,1,11,-11,measured\n1,1,12,-12,measured\n2,1,5,5,missing\n",
 	}
 	for name, text := range layouts {
 		t.Run(name, func(t *testing.T) {

@@ -24,6 +24,7 @@ type readFlags struct {
 	axis                     float64
 	imageYDown               bool
 	maxNodes                 int
+	maxFileBytes             int64
 	// plain-grid matrix input
 	plain           bool
 	origin, spacing string
@@ -42,6 +43,7 @@ func addReadFlags(fs *pflag.FlagSet) *readFlags {
 	fs.Float64Var(&r.axis, "axis", 0, "y coordinate of the symmetry axis [m] with --axisymmetric")
 	fs.BoolVar(&r.imageYDown, "y-down", false, "the file's y axis points down (image coordinates); flip it on reading")
 	fs.IntVar(&r.maxNodes, "max-nodes", piv.DefaultMaxNodes, "refuse grids with more nodes than this")
+	fs.Int64Var(&r.maxFileBytes, "max-file-bytes", 0, "refuse input files larger than this many bytes (0: no limit)")
 	fs.BoolVar(&r.plain, "plain", false, "the inputs are plain matrices: a u file (or glob) and a v file (or glob), rows = y")
 	fs.StringVar(&r.origin, "grid-origin", "0,0", "with --plain: x,y of the first matrix value (in --length-unit)")
 	fs.StringVar(&r.spacing, "grid-spacing", "", "with --plain: grid spacing DX[,DY] (in --length-unit)")
@@ -89,11 +91,12 @@ func (r *readFlags) options() (piv.ReadOptions, error) {
 		PlainGrid: r.plain, X0: x0, Y0: y0, DX: dx, DY: dy, RowsTopDown: r.rowsTopDown,
 		LengthUnit: r.lengthUnit, VelocityUnit: r.velocityUnit,
 		PixelSize: r.pixelSize, PulseSeparation: r.pulseSep,
-		Columns:    r.columns,
-		ImageYDown: r.imageYDown,
-		Geometry:   piv.Geometry{Axisymmetric: r.axisymmetric, AxisY: r.axis},
-		DT:         r.dt,
-		MaxNodes:   r.maxNodes,
+		Columns:      r.columns,
+		ImageYDown:   r.imageYDown,
+		Geometry:     piv.Geometry{Axisymmetric: r.axisymmetric, AxisY: r.axis},
+		DT:           r.dt,
+		MaxNodes:     r.maxNodes,
+		MaxFileBytes: r.maxFileBytes,
 	}, nil
 }
 

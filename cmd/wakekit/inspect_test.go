@@ -142,6 +142,7 @@ func TestInspectMalformedInputs(t *testing.T) {
 		{"too few columns", map[string]string{"f.csv": "0,0,1\n1,0,1\n"}, nil, nil, "FILE:1: has 3 columns and no header"},
 		{"grid over the node limit", map[string]string{"f.csv": grid}, []string{"--max-nodes", "3"}, nil, "FILE:5: has more than 3 data rows"},
 		{"sparse points imply a huge grid", map[string]string{"f.csv": "x,y,u,v\n0,0,1,1\n1e-6,1e-6,1,1\n1,1,1,1\n"}, []string{"--max-nodes", "1000000"}, nil, "limit"},
+		{"file over the size limit", map[string]string{"f.csv": grid}, []string{"--max-file-bytes", "20"}, nil, "FILE: file of 40 bytes is larger than the limit of 20 bytes"},
 		{"corrupt gzip", map[string]string{"f.csv.gz": string(gz)}, nil, []string{"f.csv.gz"}, "FILE:1: cannot read the data: flate: corrupt input"},
 		{"column number out of range", map[string]string{"f.csv": grid}, []string{"--columns", "1,2,3,9"}, nil, "FILE:1: --columns: column 9 does not exist"},
 		{"frame index with a bad time", map[string]string{"idx.csv": "file,time\na.csv,0\nb.csv,soon\n", "a.csv": grid, "b.csv": grid}, nil, []string{"idx.csv"}, "FILE:3:2: column time"},
