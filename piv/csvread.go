@@ -294,7 +294,7 @@ func (c *csvReader) read() error {
 		if s == "" || isNaNText([]byte(s)) {
 			continue
 		}
-		if _, ok := parseNumber([]byte(s)); !ok {
+		if _, ok := c.parseCell([]byte(s)); !ok {
 			c.header = true
 			break
 		}
@@ -568,15 +568,8 @@ func (c *csvReader) number(cell []byte, s, k int) (float64, error) {
 				return 0, c.errf(c.line, k+1, "column %q: the coordinate is missing (%q)", c.colName[s], cell)
 			}
 			return math.NaN(), nil
-		case c.delim == ';' && bytes.IndexByte(cell, ',') >= 0 && bytes.IndexByte(cell, '.') < 0 && len(cell) <= 64:
-			// Semicolon tables often use a decimal comma.
-			var buf [64]byte
-			d := buf[:len(cell)]
-			copy(d, cell)
-			d[bytes.IndexByte(d, ',')] = '.'
-			f, ok = parseNumber(d)
 		default:
-			f, ok = parseNumber(cell)
+			f, ok = c.parseCell(cell)
 		}
 		if !ok {
 			return 0, c.errf(c.line, k+1, "column %q: cannot read %q as a number", c.colName[s], clip(cell))
@@ -592,6 +585,22 @@ func (c *csvReader) number(cell []byte, s, k int) (float64, error) {
 		return f * c.lenScale, nil
 	}
 	return f * c.velScale, nil
+}
+
+// parseCell parses a number cell; in semicolon-separated tables it also reads a decimal
+// comma ("1,5"), common in spreadsheets of many locales.
+func (c *csvReader) parseCell(cell []byte) (float64, bool) {
+	if f, ok := parseNumber(cell); ok {
+		return f, true
+	}
+	if c.delim == ';' && len(cell) <= 64 && bytes.Count(cell, []byte(",")) == 1 && bytes.IndexByte(cell, '.') < 0 {
+		var buf [64]byte
+		d := buf[:len(cell)]
+		copy(d, cell)
+		d[bytes.IndexByte(d, ',')] = '.'
+		return parseNumber(d)
+	}
+	return 0, false
 }
 
 func clip(b []byte) string {

@@ -50,6 +50,10 @@ func TestReadCSVLayouts(t *testing.T) {
 			t.Errorf("info %+v", info)
 		}
 	})
+	t.Run("no header, decimal comma", func(t *testing.T) {
+		f, _ := readString(t, "0;0;1,0;-1\n1;0;2;-2\n2;0;3;-3\n0;1;11;-11\n1;1;12;-12\n", ReadOptions{LengthUnit: "mm"})
+		checkSmallField(t, f)
+	})
 	t.Run("columns by number", func(t *testing.T) {
 		f, _ := readString(t, "9,-1,1,0,0\n9,-2,2,1,0\n9,-3,3,2,0\n9,-11,11,0,1\n9,-12,12,1,1\n", ReadOptions{LengthUnit: "mm", Columns: "4,5,3,2"})
 		checkSmallField(t, f)

@@ -144,7 +144,7 @@ func parseMatrix(r io.Reader, path string, size int64, maxNodes int) (vals []flo
 				case len(cell) == 0 || isNaNText(cell):
 					f = math.NaN()
 				default:
-					if f, ok = parseNumber(cell); !ok {
+					if f, ok = cr.parseCell(cell); !ok {
 						return nil, 0, 0, nil, cr.errf(cr.line, k, "cannot read %q as a number", clip(cell))
 					}
 					if math.IsInf(f, 0) || math.IsNaN(f) {
