@@ -227,15 +227,10 @@ func dirichletValues(g piv.Grid, gx, gy []float64, opt Options) ([]float64, erro
 // fixed nodes (a common constant shift is removed first for components without fixed nodes,
 // which does not change A p).
 func (s *system) residual(p []float64) float64 {
-	n := len(p)
-	x := make([]float64, n)
-	for k := range x {
-		if s.unknown(k) {
-			x[k] = p[k]
-		}
-	}
-	y := make([]float64, n)
-	s.apply(x, y)
+	// Couplings to non-unknown nodes are zero, so p can be applied as it is (it holds no NaN
+	// before the inactive nodes are blanked).
+	y := make([]float64, len(p))
+	s.apply(p, y)
 	var rr, bb float64
 	for k := range y {
 		if s.unknown(k) {
@@ -335,8 +330,16 @@ func maskNaN(p []float64, label []int, c int) []float64 {
 // connected labels the 4-connected regions of active nodes (-1 elsewhere).
 func connected(g piv.Grid, active []bool) []int {
 	label := make([]int, len(active))
+	all := true
 	for k := range label {
 		label[k] = -1
+		all = all && active[k]
+	}
+	if all {
+		for k := range label {
+			label[k] = 0
+		}
+		return label
 	}
 	id := 0
 	var stack []int

@@ -152,13 +152,29 @@ func newSystem(g piv.Grid, geom piv.Geometry, gx, gy, fixedVal []float64) *syste
 			}
 			if i+1 < g.NX && s.active[k+1] {
 				c := ax * row[j]
-				gf := 0.5 * (gx[k] + gx[k+1]) * g.DX
-				s.couple(k, k+1, c, gf)
+				cg := c * 0.5 * (gx[k] + gx[k+1]) * g.DX
+				if s.anyFix {
+					s.couple(k, k+1, c, cg)
+				} else {
+					s.diag[k] += c
+					s.diag[k+1] += c
+					s.b[k] -= cg
+					s.b[k+1] += cg
+					s.cx[k] = c
+				}
 			}
 			if j+1 < g.NY && s.active[k+g.NX] {
 				c := ay * face[j]
-				gf := 0.5 * (gy[k] + gy[k+g.NX]) * g.DY
-				s.couple(k, k+g.NX, c, gf)
+				cg := c * 0.5 * (gy[k] + gy[k+g.NX]) * g.DY
+				if s.anyFix {
+					s.couple(k, k+g.NX, c, cg)
+				} else {
+					s.diag[k] += c
+					s.diag[k+g.NX] += c
+					s.b[k] -= cg
+					s.b[k+g.NX] += cg
+					s.cy[k] = c
+				}
 			}
 		}
 	}
@@ -166,19 +182,19 @@ func newSystem(g piv.Grid, geom piv.Geometry, gx, gy, fixedVal []float64) *syste
 }
 
 // couple adds the face between nodes a and b (b to the east or north of a) with coefficient c
-// and integrated gradient gf = h (G_f · e_ab).
-func (s *system) couple(a, b int, c, gf float64) {
-	// Equation of a: c (p_a - p_b) = -c gf ; equation of b: c (p_b - p_a) = +c gf.
+// and cg = c h (G_f · e_ab), h G_f · e_ab being the integrated face gradient.
+func (s *system) couple(a, b int, c, cg float64) {
+	// Equation of a: c (p_a - p_b) = -cg ; equation of b: c (p_b - p_a) = +cg.
 	if !s.fixed[a] {
 		s.diag[a] += c
-		s.b[a] -= c * gf
+		s.b[a] -= cg
 		if s.fixed[b] {
 			s.b[a] += c * s.val[b]
 		}
 	}
 	if !s.fixed[b] {
 		s.diag[b] += c
-		s.b[b] += c * gf
+		s.b[b] += cg
 		if s.fixed[a] {
 			s.b[b] += c * s.val[a]
 		}
@@ -195,32 +211,11 @@ func (s *system) couple(a, b int, c, gf float64) {
 // unknown reports whether node k is an unknown of the linear system.
 func (s *system) unknown(k int) bool { return s.active[k] && !s.fixed[k] }
 
-// apply computes y = A x over the unknowns (zero elsewhere).
+// apply computes y = A x over the unknowns (zero elsewhere). Couplings to nodes that are not
+// unknowns are zero, so their values in x do not matter as long as they are finite.
 func (s *system) apply(x, y []float64) {
-	nx, ny := s.nx, s.ny
-	for j := 0; j < ny; j++ {
-		for i := 0; i < nx; i++ {
-			k := j*nx + i
-			if !s.unknown(k) {
-				y[k] = 0
-				continue
-			}
-			v := s.diag[k] * x[k]
-			if i > 0 {
-				v -= s.cx[k-1] * x[k-1]
-			}
-			if i+1 < nx {
-				v -= s.cx[k] * x[k+1]
-			}
-			if j > 0 {
-				v -= s.cy[k-nx] * x[k-nx]
-			}
-			if j+1 < ny {
-				v -= s.cy[k] * x[k+nx]
-			}
-			y[k] = v
-		}
-	}
+	l := level{nx: s.nx, ny: s.ny, cx: s.cx, cy: s.cy, diag: s.diag}
+	l.apply(x, y)
 }
 
 // components labels the connected groups of unknown nodes (through non-zero couplings) and
@@ -228,8 +223,19 @@ func (s *system) apply(x, y []float64) {
 func (s *system) components() (label []int, touchesFixed []bool) {
 	n := s.nx * s.ny
 	label = make([]int, n)
+	all := true
 	for k := range label {
 		label[k] = -1
+		all = all && s.active[k]
+	}
+	if all && s.anyFix {
+		// A full rectangle with prescribed nodes is one region touching them.
+		for k := range label {
+			if s.unknown(k) {
+				label[k] = 0
+			}
+		}
+		return label, []bool{true}
 	}
 	queue := make([]int, 0, 64)
 	for k0 := 0; k0 < n; k0++ {
