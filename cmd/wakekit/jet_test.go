@@ -1,0 +1,153 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/wakekit/wakekit/circulation"
+)
+
+// jetRefDir is the CFD reference of an axisymmetric laminar starting jet (L/D = 4, Re = 1000)
+// from a general-purpose Navier-Stokes solver; see its README.
+const jetRefDir = "../../../shared/reference/starting-jet-LD4"
+
+func jetReadTable(t *testing.T, path string) [][]float64 {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Skipf("CFD reference not available (%v)", err)
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out [][]float64
+	for _, r := range rows[1:] {
+		v := make([]float64, len(r))
+		for c, s := range r {
+			v[c], _ = strconv.ParseFloat(s, 64)
+		}
+		out = append(out, v)
+	}
+	return out
+}
+
+func readSummary(t *testing.T, dir string) jsonSummary {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join(dir, "summary.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var js jsonSummary
+	if err := json.Unmarshal(b, &js); err != nil {
+		t.Fatal(err)
+	}
+	return js
+}
+
+func fig(t *testing.T, js jsonSummary, key string) float64 {
+	t.Helper()
+	f, ok := js.Pulses[0].Figures[key]
+	if !ok || f.Value == nil {
+		t.Fatalf("summary lacks %s", key)
+	}
+	return *f.Value
+}
+
+// End to end on the CFD reference, velocity only as input (the frames' p column is not read):
+// the over-pressure impulse by route (a) against the solver's exit pressure impulse
+// (truth_exit_highres.csv) within 2% of the solver's total exit impulse int (M + P) dt, over
+// the same interval; the peak over-pressure force of the acceleration phase within 10%
+// (README: 8.615e-4 N at t = 0.129 s); route (b) within 10% of int (M + P) dt; the exit
+// momentum-flux impulse within 3%. Tolerances are the product's acceptance figures.
+func TestJetReferenceThrustSplit(t *testing.T) {
+	hi := jetReadTable(t, filepath.Join(jetRefDir, "truth_exit_highres.csv"))
+	dir := t.TempDir()
+	code, stdout, stderr := runCapture("jet", filepath.Join(jetRefDir, "frames.csv"), "--axisymmetric", "--axis", "0",
+		"--exit", "0", "--diameter", "0.025", "--lip", "0.01375", "--rest", "0", "--samples", "0", "-q", "--out", dir)
+	if code != 0 {
+		t.Fatalf("jet exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "formation number") {
+		t.Errorf("summary table missing from stdout:\n%s", stdout)
+	}
+	js := readSummary(t, dir)
+	var ht, hm, hp, hs []float64
+	for _, r := range hi {
+		ht = append(ht, r[0])
+		hm = append(hm, r[2])
+		hp = append(hp, r[3])
+		hs = append(hs, r[2]+r[3])
+	}
+	a0 := math.Max(fig(t, js, "start"), 0.025) // integrals start at the first frame
+	end := fig(t, js, "end")
+	rec := 6.75
+	for _, c := range []struct {
+		name, key string
+		to        float64
+	}{{"pulse", "pressure_impulse_a", end}, {"record", "pressure_window_a", rec}} {
+		tot := circulation.BudgetIntegral(ht, hs, a0, c.to)
+		want := circulation.BudgetIntegral(ht, hp, a0, c.to)
+		got := fig(t, js, c.key)
+		t.Logf("route (a) %s: %.4e vs solver %.4e: %.2f%% of int(M+P)dt", c.name, got, want, 100*(got-want)/tot)
+		if math.Abs(got-want) > 0.02*tot {
+			t.Errorf("route (a) %s pressure impulse %g, solver %g: more than 2%% of %g", c.name, got, want, tot)
+		}
+	}
+	tot := circulation.BudgetIntegral(ht, hs, a0, rec)
+	for _, c := range []struct {
+		key string
+		to  float64
+	}{{"pressure_impulse_b", end}, {"pressure_window_b", rec}} {
+		want := circulation.BudgetIntegral(ht, hp, a0, c.to)
+		got := fig(t, js, c.key)
+		t.Logf("route (b) %s: %.4e vs solver %.4e: %.2f%%", c.key, got, want, 100*(got-want)/tot)
+		if math.Abs(got-want) > 0.10*tot {
+			t.Errorf("%s %g, solver %g: more than 10%% of %g", c.key, got, want, tot)
+		}
+	}
+	peak := fig(t, js, "peak_pressure_a")
+	t.Logf("peak over-pressure force (a) %.4e N, solver 8.615e-4 N", peak)
+	if math.Abs(peak/8.615e-4-1) > 0.10 {
+		t.Errorf("peak over-pressure force %g, solver 8.615e-4 N", peak)
+	}
+	m := fig(t, js, "momentum_impulse")
+	mT := circulation.BudgetIntegral(ht, hm, a0, end)
+	if math.Abs(m/mT-1) > 0.03 {
+		t.Errorf("momentum-flux impulse %g, solver %g", m, mT)
+	}
+	for _, f := range []string{"summary.json", "timeseries.csv", "report.html", "exit_program.png", "circulation_budget.png", "thrust_split.png"} {
+		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+			t.Error(err)
+		}
+	}
+}
+
+// Bad usage exits with status 2 and names the problem; bad data exits with 1.
+func TestJetBadInput(t *testing.T) {
+	dir := t.TempDir()
+	for _, c := range []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{"jet", "x.csv", "--diameter", "0.02"}, 2, "--axisymmetric"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--slot", "--diameter", "0.02"}, 2, "exclude"},
+		{[]string{"jet", "x.csv", "--axisymmetric"}, 2, "--diameter"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "-1"}, 2, "diameter"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "0.02", "--param", "novalue"}, 2, "KEY=VALUE"},
+		{[]string{"jet", filepath.Join(dir, "missing.csv"), "--axisymmetric", "--diameter", "0.02", "--out", dir}, 1, "missing.csv"},
+	} {
+		code, _, stderr := runCapture(c.args...)
+		if code != c.code || !strings.Contains(stderr, c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want %d and %q", c.args, code, stderr, c.code, c.want)
+		}
+	}
+}
