@@ -47,7 +47,7 @@ starts on the symmetry axis y = 0 (or the y of --center), so read it back with
 half of the section (radial velocity and vorticity change sign).
 
 The noise model first averages each vector over a --window of N x N nodes (the interrogation
-window), then adds Gaussian noise of --noise m/s per component (or --noise-px pixels with
+window; --window-size L instead averages the exact flow over an L x L square), then adds Gaussian noise of --noise m/s per component (or --noise-px pixels with
 --pixel-size and --pulse-separation), then replaces a --spurious share of the vectors by
 random ones. The same --seed gives the same files.
 
@@ -69,6 +69,7 @@ type synthFlags struct {
 	speed, radius, wavelength, omega     float64
 	rho                                  float64
 	coMoving, exact                      bool
+	windowSize                           float64
 	format                               string
 	noise                                analytic.Noise
 }
@@ -101,6 +102,7 @@ func setupSynth(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.Float64Var(&o.noise.PulseSeparation, "pulse-separation", 0, "pulse separation [s] for --noise-px")
 	fs.Float64Var(&o.noise.SpuriousFraction, "spurious", 0, "share of vectors replaced by spurious ones, 0..1")
 	fs.IntVar(&o.noise.Window, "window", 1, "interrogation-window box average over N x N nodes (odd N)")
+	fs.Float64Var(&o.windowSize, "window-size", 0, "interrogation-window average of the exact flow over an L x L square [m], instead of --window")
 	fs.Uint64Var(&o.noise.Seed, "seed", 1, "seed of the noise generator")
 	rf := addRunFlags(fs)
 	return func(e *env, args []string) error { return o.run(e, fs, rf, args) }
@@ -133,6 +135,9 @@ func (o *synthFlags) run(e *env, fs *pflag.FlagSet, rf *runFlags, args []string)
 	if err := o.noise.Validate(); err != nil {
 		return usagef("%v", err)
 	}
+	if o.windowSize != 0 && (!(o.windowSize > 0) || math.IsInf(o.windowSize, 0) || o.noise.Window > 1) {
+		return usagef("--window-size %g: give a positive size in m, and not together with --window", o.windowSize)
+	}
 	if rf.shard != "" || rf.resume {
 		return usagef("--shard and --resume do not apply: synth writes every frame")
 	}
@@ -150,6 +155,9 @@ func (o *synthFlags) run(e *env, fs *pflag.FlagSet, rf *runFlags, args []string)
 		return err
 	}
 	series, err := piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
+		if o.windowSize > 0 {
+			return analytic.SampleWindowed(sf.flow, g, times[k], o.windowSize, 0)
+		}
 		return analytic.Sample(sf.flow, g, times[k]), nil
 	})
 	if err != nil {
@@ -209,6 +217,9 @@ func (o *synthFlags) run(e *env, fs *pflag.FlagSet, rf *runFlags, args []string)
 	fmt.Fprintf(e.stdout, "%s: %d frame(s), %s, %s\n", args[0], len(times), g, analytic.GeometryOf(sf.flow))
 	for _, p := range sf.params {
 		fmt.Fprintf(e.stdout, "  %-36s %.6g %s\n", p.name, p.v, p.unit)
+	}
+	if o.windowSize > 0 {
+		fmt.Fprintf(e.stdout, "  %-36s %.6g m\n", "interrogation window (continuous)", o.windowSize)
 	}
 	if !o.noise.Zero() {
 		sigma, _ := o.noise.SigmaSI()
@@ -504,7 +515,8 @@ func (o *synthFlags) writeSummary(path, name string, sf *synthFlow, g piv.Grid, 
 	}
 	sigma, _ := o.noise.SigmaSI()
 	s.Noise = map[string]piv.JSONFloat{"sigma [m/s]": piv.JSONFloat(sigma),
-		"spurious_fraction": piv.JSONFloat(o.noise.SpuriousFraction), "window [nodes]": piv.JSONFloat(max(o.noise.Window, 1))}
+		"spurious_fraction": piv.JSONFloat(o.noise.SpuriousFraction), "window [nodes]": piv.JSONFloat(max(o.noise.Window, 1)),
+		"window_size [m]": piv.JSONFloat(o.windowSize)}
 	s.Grid.NX, s.Grid.NY = g.NX, g.NY
 	s.Grid.X0, s.Grid.Y0, s.Grid.DX, s.Grid.DY = piv.JSONFloat(g.X0), piv.JSONFloat(g.Y0), piv.JSONFloat(g.DX), piv.JSONFloat(g.DY)
 	sort.Strings(s.Files)
