@@ -411,11 +411,11 @@ type CleanOptions struct {
 
 // CleanReport counts what a cleaning pass did to one frame (or, summed with Add, to a series).
 type CleanReport struct {
-	Nodes      int              // nodes of the grid
-	Solid      int              // solid nodes
-	Validation ValidationCounts // vectors checked and rejected per test
-	Filled     int              // nodes filled (Replaced)
-	Missing    int              // non-solid nodes without a vector after cleaning
+	Nodes      int              `json:"nodes"`      // nodes of the grid
+	Solid      int              `json:"solid"`      // solid nodes
+	Validation ValidationCounts `json:"validation"` // vectors checked and rejected per test
+	Filled     int              `json:"filled"`     // nodes filled (Replaced)
+	Missing    int              `json:"missing"`    // non-solid nodes without a vector after cleaning
 }
 
 // Add adds the counts of o to r.

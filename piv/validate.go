@@ -106,6 +106,12 @@ type MedianOptions struct {
 	PerComponent bool
 }
 
+// Check reports whether the options are usable.
+func (o MedianOptions) Check() error {
+	_, err := o.resolved()
+	return err
+}
+
 func (o MedianOptions) resolved() (MedianOptions, error) {
 	if o.Radius == 0 {
 		o.Radius = 1
@@ -484,10 +490,10 @@ type ValidateOptions struct {
 
 // ValidationCounts reports how many vectors each test rejected.
 type ValidationCounts struct {
-	Checked int // valid vectors before validation
-	Range   int
-	Median  int
-	Std     int
+	Checked int `json:"checked"` // valid vectors before validation
+	Range   int `json:"range"`
+	Median  int `json:"median"`
+	Std     int `json:"std"`
 }
 
 // Rejected returns the total number of rejected vectors.
