@@ -137,3 +137,40 @@ func FuzzReadFrameIndex(f *testing.F) {
 		}
 	})
 }
+
+// Frames are read only when asked for: a broken frame does not stop the series from opening,
+// and its error names it when it is loaded.
+func TestOpenSeriesIsLazy(t *testing.T) {
+	dir := t.TempDir()
+	writeFrames(t, dir, "f1.csv", "f2.csv")
+	os.WriteFile(filepath.Join(dir, "f3.csv"), []byte("x,y,u,v\n0,0,oops,0\n"), 0o644)
+	s, err := OpenSeries([]string{dir}, ReadOptions{DT: 1})
+	if err != nil || s.Len() != 3 {
+		t.Fatalf("open: %v", err)
+	}
+	if _, err := s.Frame(1); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.Frame(2); err == nil || !strings.Contains(err.Error(), "f3.csv:2:3") {
+		t.Errorf("broken frame: %v", err)
+	}
+}
+
+func TestOpenPlainSeriesGlobs(t *testing.T) {
+	dir := t.TempDir()
+	for _, n := range []string{"u_1.txt", "u_2.txt", "u_10.txt", "v_1.txt", "v_2.txt", "v_10.txt"} {
+		os.WriteFile(filepath.Join(dir, n), []byte("1 2\n3 4\n"), 0o644)
+	}
+	opt := ReadOptions{DX: 1e-3, DT: 0.01}
+	s, err := OpenPlainSeries([]string{filepath.Join(dir, "u_*.txt"), filepath.Join(dir, "v_*.txt")}, opt)
+	if err != nil || s.Len() != 3 || filepath.Base(s.Name(2)) != "u_10.txt" || s.Time(2) != 0.02 {
+		t.Fatalf("plain series: %v %v", err, s)
+	}
+	if f, err := s.Frame(2); err != nil || f.Grid.DX != 1e-3 {
+		t.Errorf("frame: %v", err)
+	}
+	os.Remove(filepath.Join(dir, "v_10.txt"))
+	if _, err := OpenPlainSeries([]string{filepath.Join(dir, "u_*.txt"), filepath.Join(dir, "v_*.txt")}, opt); err == nil || !strings.Contains(err.Error(), "pair up") {
+		t.Errorf("unpaired: %v", err)
+	}
+}

@@ -164,6 +164,10 @@ func (r *inspectReport) print(w io.Writer) {
 	if r.Gzip {
 		how += " (gzip)"
 	}
+	delim := r.Delimiter
+	if delim == "spaces" {
+		delim = "whitespace"
+	}
 	if r.Format == "csv" {
 		hdr := "no header"
 		if r.Header {
@@ -173,9 +177,9 @@ func (r *inspectReport) print(w io.Writer) {
 		for k, c := range r.Columns {
 			quoted[k] = fmt.Sprintf("%q", c)
 		}
-		how += fmt.Sprintf(", %s-separated, %s; columns %s", r.Delimiter, hdr, strings.Join(quoted, ", "))
+		how += fmt.Sprintf(", %s-separated, %s; columns %s", delim, hdr, strings.Join(quoted, ", "))
 	} else {
-		how += fmt.Sprintf(", %s-separated", r.Delimiter)
+		how += fmt.Sprintf(", %s-separated", delim)
 	}
 	line("format", "%s", how)
 	line("units read", "length %s, velocity %s (shown below in m and m/s)", r.LengthUnit, r.VelocityUnit)
