@@ -138,16 +138,7 @@ func Reconstruct(fr Frames, k int, opt FrameOptions) (*FrameResult, error) {
 			return nil, err
 		}
 		out.QDot = qdot
-		g := f.Grid
-		ex := *opt.Exit
-		rho, pInf := opt.Fluid.Rho, so.PInf
-		so.Boundary = func(i, j int) float64 {
-			q := g.Index(i, j)
-			dx, dr := g.X(i)-ex.X, g.Y(j)-ex.Axis
-			d := math.Hypot(dx, dr)
-			u, v := f.U[q], f.V[q]
-			return pInf + rho*qdot/(4*math.Pi*d) - rho*(u*u+v*v)/2
-		}
+		so.Boundary = SourceBoundary(f, *opt.Exit, qdot, opt.Fluid.Rho, so.PInf)
 	}
 	res, err := Integrate(f.Grid, f.Geometry, gx, gy, so)
 	if err != nil {
@@ -162,6 +153,20 @@ func Reconstruct(fr Frames, k int, opt FrameOptions) (*FrameResult, error) {
 		out.Exit = ef
 	}
 	return out, nil
+}
+
+// SourceBoundary returns the far-field pressure of the Source reference model at the nodes of
+// f: p∞ + ρ Q̇/(4π d) − ρ|u|²/2, with d the distance from the centre of the exit (e.X on the
+// axis) in the meridional plane, Q̇ the rate of change of the source strength [m^3/s^2] and u
+// the measured velocity at the node.
+func SourceBoundary(f *piv.Field, e Exit, qdot, rho, pInf float64) func(i, j int) float64 {
+	g := f.Grid
+	return func(i, j int) float64 {
+		q := g.Index(i, j)
+		d := math.Hypot(g.X(i)-e.X, g.Y(j)-e.Axis)
+		u, v := f.U[q], f.V[q]
+		return pInf + rho*qdot/(4*math.Pi*d) - rho*(u*u+v*v)/2
+	}
 }
 
 // exitFluxRate returns dQ/dt at frame k from the exit fluxes of the frames of the time stencil
