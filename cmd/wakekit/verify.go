@@ -49,6 +49,7 @@ installed binary can be checked; it exits with status 1 if any row fails.
 Examples:
   wakekit verify
   wakekit verify --spacing 1e-3 --core-radius 4e-3 --noise 0.005
+  wakekit verify --spacing 1e-3 --core-radius 4e-3 --window-size 2e-3 --noise 0.002
   wakekit verify --spacing 2.5e-3 --core-radius 5e-3 --scheme central,richardson --trials 50`,
 		setup: setupVerify,
 	})
@@ -58,6 +59,7 @@ Examples:
 type verifySettings struct {
 	Spacing, Core, Gamma float64 // grid spacing, Lamb–Oseen core radius and circulation
 	Noise                analytic.Noise
+	WindowSize           float64 // continuous interrogation-window average [m], 0 for none
 	Radius, Speed        float64 // Hill's vortex
 	Rho                  float64
 	Schemes              []vorticity.Scheme
@@ -94,6 +96,7 @@ func setupVerify(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.Float64Var(&s.Core, "core-radius", 5e-3, "vortex core radius r_c [m]")
 	fs.Float64Var(&s.Noise.Sigma, "noise", 0, "random error per velocity component [m/s]")
 	fs.IntVar(&s.Noise.Window, "window", 1, "interrogation-window box average over N x N nodes (odd N)")
+	fs.Float64Var(&s.WindowSize, "window-size", 0, "interrogation-window average of the exact flow over an L x L square [m], instead of --window")
 	fs.StringVar(&schemes, "scheme", "central,richardson,least-squares,circulation", "difference schemes to compare (comma-separated)")
 	fs.Float64Var(&s.Gamma, "gamma", 0.01, "circulation of the Lamb–Oseen vortex [m^2/s]")
 	fs.Float64Var(&s.Radius, "radius", 0, "radius of Hill's spherical vortex [m] (default 4 core radii)")
@@ -107,7 +110,7 @@ func setupVerify(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return usagef("verify takes no files (got %q)", args[0])
 		}
 		s.Suite = true
-		for _, name := range []string{"spacing", "core-radius", "noise", "window", "scheme", "gamma", "radius", "speed", "rho", "on-node"} {
+		for _, name := range []string{"spacing", "core-radius", "noise", "window", "window-size", "scheme", "gamma", "radius", "speed", "rho", "on-node"} {
 			if fs.Changed(name) {
 				s.Suite = false
 			}
@@ -155,6 +158,9 @@ func (s *verifySettings) check() error {
 	}
 	if err := s.Noise.Validate(); err != nil {
 		return usagef("%v", err)
+	}
+	if s.WindowSize != 0 && (!(s.WindowSize > 0) || math.IsInf(s.WindowSize, 0) || s.Noise.Window > 1) {
+		return usagef("--window-size %g: give a positive size in m, and not together with --window", s.WindowSize)
 	}
 	if len(s.Schemes) == 0 {
 		return usagef("--scheme: give at least one scheme")
@@ -223,7 +229,10 @@ func runVerify(s *verifySettings) ([]*verifyRow, error) {
 			ox, oy = (rng.Float64()-0.5)*h, (rng.Float64()-0.5)*h
 		}
 		lo := analytic.LambOseen{Gamma: s.Gamma, CoreRadius: s.Core, X: ox, Y: oy, Rho: s.Rho}
-		f := analytic.Sample(lo, gl, 0)
+		f, err := sampleVerify(lo, gl, s.WindowSize)
+		if err != nil {
+			return nil, err
+		}
 		nz := s.Noise
 		nz.Seed, nz.Stream = s.Seed, uint64(2*trial)
 		if _, err := nz.Apply(f); err != nil {
@@ -270,7 +279,10 @@ func runVerify(s *verifySettings) ([]*verifyRow, error) {
 			t.add("centre pressure", "Pa", "closed form of dp/dr = rho u^2/r", sch.String(), lo.Pressure(ox, oy, 0), pc, err)
 		}
 		hill := analytic.Hill{Radius: s.Radius, Speed: s.Speed, X0: ox, Rho: s.Rho}
-		fh := analytic.Sample(hill, gh, 0)
+		fh, err := sampleVerify(hill, gh, s.WindowSize)
+		if err != nil {
+			return nil, err
+		}
 		nz.Stream = uint64(2*trial + 1)
 		if _, err := nz.Apply(fh); err != nil {
 			return nil, err
@@ -304,6 +316,14 @@ func runVerify(s *verifySettings) ([]*verifyRow, error) {
 		}
 	}
 	return t.rows, nil
+}
+
+// sampleVerify samples f at t = 0, averaged over the interrogation window when size > 0.
+func sampleVerify(f analytic.Flow, g piv.Grid, size float64) (*piv.Field, error) {
+	if size > 0 {
+		return analytic.SampleWindowed(f, g, 0, size, 0)
+	}
+	return analytic.Sample(f, g, 0), nil
 }
 
 // peakNear returns the largest value of sign*s (times sign) among the nodes within radius of
@@ -370,8 +390,12 @@ func printVerify(w io.Writer, s verifySettings, rows []*verifyRow) error {
 		place = "centred on a node"
 	}
 	sigma, _ := s.Noise.SigmaSI()
-	fmt.Fprintf(w, "wakekit verify: %s; spacing %.4g m, core radius %.4g m (r_c/h = %.3g), Hill radius %.4g m, noise %.4g m/s, window %d, %d trial(s), seed %d, vortices at %s\n\n",
-		mode, s.Spacing, s.Core, s.Core/s.Spacing, s.Radius, sigma, max(s.Noise.Window, 1), s.Trials, s.Seed, place)
+	window := fmt.Sprintf("window %d node(s)", max(s.Noise.Window, 1))
+	if s.WindowSize > 0 {
+		window = fmt.Sprintf("window %.4g m", s.WindowSize)
+	}
+	fmt.Fprintf(w, "wakekit verify: %s; spacing %.4g m, core radius %.4g m (r_c/h = %.3g), Hill radius %.4g m, noise %.4g m/s, %s, %d trial(s), seed %d, vortices at %s\n\n",
+		mode, s.Spacing, s.Core, s.Core/s.Spacing, s.Radius, sigma, window, s.Trials, s.Seed, place)
 	fmt.Fprintf(w, "%-42s %-14s %12s %12s %9s %9s", "quantity", "scheme", "exact", "mean", "bias", "scatter")
 	if s.Suite {
 		fmt.Fprintf(w, "  %-6s %s", "check", "tolerance")

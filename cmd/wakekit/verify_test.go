@@ -131,11 +131,34 @@ func TestVerifyBadUsage(t *testing.T) {
 	for _, args := range [][]string{
 		{"file.csv"}, {"--spacing", "0"}, {"--spacing", "-1e-3"}, {"--spacing", "0.02"}, {"--spacing", "1e-6"},
 		{"--scheme", "bogus"}, {"--scheme", ","}, {"--trials", "-1"}, {"--noise", "-1"}, {"--window", "2"},
-		{"--core-radius", "NaN"}, {"--gamma", "0"}, {"--rho", "0"},
+		{"--core-radius", "NaN"}, {"--gamma", "0"}, {"--rho", "0"}, {"--window-size", "-1"},
+		{"--window-size", "1e-3", "--window", "3"},
 	} {
 		code, _, errs := runCapture(append([]string{"verify"}, args...)...)
 		if code != 2 || errs == "" {
 			t.Errorf("verify %v: status %d, stderr %q; want 2 and a message", args, code, errs)
 		}
+	}
+}
+
+// A top-hat interrogation window of side L convolves the vorticity with a box, which adds its
+// variance L^2/12 per axis to the Gaussian core's r_c^2/2 (variances add under convolution),
+// so the fitted core radius must grow to r_c sqrt(1 + L^2/(6 r_c^2)). The filtered core is not
+// exactly Gaussian: the box's fourth cumulant -L^4/120 against the core's (r_c^2/2)^2 gives
+// about 8.5e-4 at L = 0.4 r_c, which bounds the difference (0.1 percentage point).
+func TestVerifyWindowWidensCore(t *testing.T) {
+	rc, L := 5e-3, 2e-3
+	s := &verifySettings{Spacing: 1e-3, Core: rc, Gamma: 0.01, Speed: 0.1, Rho: 1000, Trials: 2, Seed: 1, WindowSize: L,
+		Schemes: []vorticity.Scheme{vorticity.Central}}
+	if err := s.check(); err != nil {
+		t.Fatal(err)
+	}
+	rows, err := runVerify(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := math.Sqrt(1+L*L/(6*rc*rc)) - 1
+	if r := findRow(rows, "core radius, Lamb–Oseen fit", ""); math.Abs(r.Bias-want) > 1e-3 {
+		t.Errorf("core radius bias %.4f %% with a %g m window, want %.4f %%", 100*r.Bias, L, 100*want)
 	}
 }
