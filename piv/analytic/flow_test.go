@@ -339,3 +339,27 @@ func TestSample(t *testing.T) {
 		t.Errorf("vortex before its start: valid share %g, want 0", early.ValidShare())
 	}
 }
+
+// The closed-form Circulation methods of the other circular flows equal the quadrature of
+// their velocity around a circle about the centre: Gamma min(R^2/A^2, 1) for the Rankine vortex
+// (Saffman 1992, §2.1), 2 pi Omega R^2 for solid-body rotation, zero for a uniform stream.
+func TestCirculationMethods(t *testing.T) {
+	rk := Rankine{Gamma: 0.02, A: 4e-3, X: 0.01, Y: 0.02, Uc: 0.3, Vc: 0.1}
+	rot := Rotation{Omega: -1.5, X: -0.01, Y: 0.03}
+	for _, R := range []float64{1e-3, 4e-3, 1e-2} {
+		cx, cy := rk.Centre(0.2)
+		if e := relErr(lineCirculation(rk, cx, cy, R, 0.2), rk.Circulation(R, 0.2), rk.Gamma); e > 1e-12 {
+			t.Errorf("Rankine R=%g: line %.15g, Circulation %.15g", R, lineCirculation(rk, cx, cy, R, 0.2), rk.Circulation(R, 0.2))
+		}
+		want := 2 * math.Pi * rot.Omega * R * R
+		if e := relErr(lineCirculation(rot, rot.X, rot.Y, R, 0), rot.Circulation(R, 0), math.Abs(want)); e > 1e-12 || rot.Circulation(R, 0) != want {
+			t.Errorf("rotation R=%g: line %.15g, Circulation %.15g", R, lineCirculation(rot, rot.X, rot.Y, R, 0), rot.Circulation(R, 0))
+		}
+		if g := lineCirculation(Uniform{U: 1, V: 2}, 0, 0, R, 0); math.Abs(g) > 1e-14 {
+			t.Errorf("uniform stream: circulation %g", g)
+		}
+	}
+	if rk.Circulation(2e-3, 0) != 0.02*0.25 {
+		t.Errorf("Rankine circulation at half the core radius %g, want Gamma/4", rk.Circulation(2e-3, 0))
+	}
+}
