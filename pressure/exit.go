@@ -205,6 +205,52 @@ func TimeIntegral(t, f []float64, t0, t1 float64) float64 {
 	return sum
 }
 
+// PhaseImpulse is the time integral of the exit forces over one phase of the record.
+type PhaseImpulse struct {
+	Name     string  // "record", "pulse 1", "pulse 1 acceleration", "pulse 1 hold", ...
+	From, To float64 // time interval [s]
+	M, P     float64 // ∫M dt and ∫P dt [N s] (planar: per unit depth)
+	Sum      float64 // ∫(M + P) dt
+}
+
+// PulseImpulses integrates the momentum flux m and pressure force p over the whole record and
+// over each pulse found in the exit flux q (see Pulses), split into its acceleration, hold and
+// deceleration phases. A pulse runs from the last frame below the threshold before it to the
+// first frame below it after it (or the record's ends).
+func PulseImpulses(t, m, p, q []float64) []PhaseImpulse {
+	if len(t) == 0 {
+		return nil
+	}
+	one := func(name string, a, b float64) PhaseImpulse {
+		pm, pp := TimeIntegral(t, m, a, b), TimeIntegral(t, p, a, b)
+		return PhaseImpulse{Name: name, From: a, To: b, M: pm, P: pp, Sum: pm + pp}
+	}
+	out := []PhaseImpulse{one("record", t[0], t[len(t)-1])}
+	at := func(tt float64) int {
+		for k := range t {
+			if t[k] >= tt {
+				return k
+			}
+		}
+		return len(t) - 1
+	}
+	for n, pu := range Pulses(t, q) {
+		a, b := at(pu.Start), at(pu.End)
+		if a > 0 {
+			a--
+		}
+		if b < len(t)-1 {
+			b++
+		}
+		name := fmt.Sprintf("pulse %d", n+1)
+		out = append(out, one(name, t[a], t[b]),
+			one(name+" acceleration", t[a], pu.AccelEnd),
+			one(name+" hold", pu.AccelEnd, pu.DecelStart),
+			one(name+" deceleration", pu.DecelStart, t[b]))
+	}
+	return out
+}
+
 // Pulse is one pulse of the exit program, as frame times: the flux rises above a threshold at
 // Start and falls below it at End; the acceleration phase ends at the first frame after which
 // the flux stops rising markedly (AccelEnd) and the deceleration phase starts at DecelStart.

@@ -148,3 +148,45 @@ func TestSourceReference(t *testing.T) {
 		t.Errorf("the constant reference is as good as the source model; the test does not discriminate")
 	}
 }
+
+// TestPulseImpulses integrates a trapezoidal exit program with known phase integrals.
+func TestPulseImpulses(t *testing.T) {
+	var ts, m, p, q []float64
+	for k := 0; k <= 400; k++ {
+		tt := float64(k) * 0.01
+		u := 0.0
+		switch {
+		case tt < 0.5:
+		case tt < 1:
+			u = (tt - 0.5) / 0.5
+		case tt < 2:
+			u = 1
+		case tt < 2.5:
+			u = (2.5 - tt) / 0.5
+		}
+		ts, q, m, p = append(ts, tt), append(q, u), append(m, u*u), append(p, 0.1)
+	}
+	ph := PulseImpulses(ts, m, p, q)
+	byName := map[string]PhaseImpulse{}
+	for _, x := range ph {
+		byName[x.Name] = x
+	}
+	// ∫u² dt over the ramps is 0.5/3 each and 1 over the hold (exact; the trapezoidal rule on
+	// a 0.01 s step errs by about 1e-4 on the ramps' u²).
+	for _, c := range []struct {
+		name string
+		want float64
+	}{{"record", 1 + 1.0/3}, {"pulse 1", 1 + 1.0/3}} {
+		if got := byName[c.name].M; math.Abs(got-c.want) > 1e-3 {
+			t.Errorf("%s: ∫M dt = %g, want %g", c.name, got, c.want)
+		}
+	}
+	if got := byName["record"].P; math.Abs(got-0.4) > 1e-9 {
+		t.Errorf("record ∫P dt = %g, want 0.4", got)
+	}
+	acc, hold := byName["pulse 1 acceleration"], byName["pulse 1 hold"]
+	t.Logf("phases: %+v", ph)
+	if acc.To < 0.95 || acc.To > 1 || hold.To < 2 || hold.To > 2.05 {
+		t.Errorf("phase limits: acceleration ends at %g, hold at %g", acc.To, hold.To)
+	}
+}
