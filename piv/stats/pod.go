@@ -142,6 +142,19 @@ func (m *Modes) UnitCoeffs(k int) []float64 {
 	return c
 }
 
+// CheckModes reports whether nModes modes can be computed from a series of frames: at least
+// one, and at most frames − 1 (removing the mean leaves frames − 1 independent snapshots).
+func CheckModes(nModes, frames int) error {
+	if nModes < 1 {
+		return fmt.Errorf("number of modes %d must be at least 1", nModes)
+	}
+	if nModes > frames-1 {
+		return fmt.Errorf("%d modes requested from %d frames: at most %d (the frames minus one, since the mean is removed)",
+			nModes, frames, frames-1)
+	}
+	return nil
+}
+
 // Decompose computes the first nModes modes. It needs at least two snapshots, at least one
 // node valid in every snapshot, and 1 ≤ nModes ≤ N − 1 (removing the mean leaves N − 1
 // independent snapshots). It reuses the stored snapshots as scratch: call it once.
@@ -150,12 +163,8 @@ func (p *POD) Decompose(nModes int) (*Modes, error) {
 	if N < 2 {
 		return nil, fmt.Errorf("modal decomposition needs at least two frames, got %d", N)
 	}
-	if nModes < 1 {
-		return nil, fmt.Errorf("number of modes %d must be at least 1", nModes)
-	}
-	if nModes > N-1 {
-		return nil, fmt.Errorf("%d modes requested from %d frames: at most %d (the frames minus one, since the mean is removed)",
-			nModes, N, N-1)
+	if err := CheckModes(nModes, N); err != nil {
+		return nil, err
 	}
 	n := p.grid.N()
 	// Nodes valid in every snapshot.

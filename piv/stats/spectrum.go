@@ -221,3 +221,57 @@ func FillTimeGaps(x []float64) (int, error) {
 	}
 	return filled, nil
 }
+
+// DefaultSegment returns the Welch segment length for a record of n samples: the largest power
+// of two up to n/4 (so that about seven half-overlapping segments are averaged, common
+// practice), or the largest even length up to n for records shorter than 16 samples.
+func DefaultSegment(n int) int {
+	if n < 16 {
+		return n &^ 1
+	}
+	s := 4
+	for s*2 <= n/4 {
+		s *= 2
+	}
+	return s
+}
+
+// ProbeSpectrum is the pair of Welch spectra of the two velocity components at a probe.
+type ProbeSpectrum struct {
+	U, V *Spectrum
+	// Filled is the number of missing samples filled by linear interpolation in time, per
+	// component.
+	FilledU, FilledV int
+	// Dominant is the frequency of the largest value of PSD_u + PSD_v above zero frequency
+	// [Hz], the dominant frequency of the velocity fluctuation at the probe.
+	Dominant float64
+}
+
+// Spectra fills the probe's gaps in time (FillTimeGaps, on copies) and computes the Welch
+// spectra of u and v with the given segment length and overlap.
+func (p *Probe) Spectra(fs float64, segLen, overlap int) (*ProbeSpectrum, error) {
+	u := append([]float64(nil), p.U...)
+	v := append([]float64(nil), p.V...)
+	var ps ProbeSpectrum
+	var err error
+	if ps.FilledU, err = FillTimeGaps(u); err != nil {
+		return nil, fmt.Errorf("probe (%g, %g) m: %v", p.X, p.Y, err)
+	}
+	if ps.FilledV, err = FillTimeGaps(v); err != nil {
+		return nil, fmt.Errorf("probe (%g, %g) m: %v", p.X, p.Y, err)
+	}
+	if ps.U, err = Welch(u, fs, segLen, overlap); err != nil {
+		return nil, err
+	}
+	if ps.V, err = Welch(v, fs, segLen, overlap); err != nil {
+		return nil, err
+	}
+	best := 1
+	for j := 1; j < len(ps.U.PSD); j++ {
+		if ps.U.PSD[j]+ps.V.PSD[j] > ps.U.PSD[best]+ps.V.PSD[best] {
+			best = j
+		}
+	}
+	ps.Dominant = ps.U.Freq[best]
+	return &ps, nil
+}

@@ -458,3 +458,39 @@ func BenchmarkPOD500x128x128(b *testing.B) {
 	b.ReportMetric(b.Elapsed().Seconds()/float64(b.N), "s/decomposition")
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(N*g.N()), "ns/node-frame")
 }
+
+func TestProbeSpectra(t *testing.T) {
+	// A probe in a field oscillating at 20 Hz in v (twice the amplitude of a 45 Hz u
+	// oscillation): the dominant frequency of u and v together is 20 Hz within a bin; one
+	// frame without data is filled in time.
+	g := piv.Grid{NX: 3, NY: 3, DX: 0.01, DY: 0.01}
+	const fs = 400.0
+	p := &Probe{X: 0.01, Y: 0.01}
+	for k := 0; k < 512; k++ {
+		tt := float64(k) / fs
+		f := piv.NewField(g)
+		if k != 100 {
+			for q := range f.U {
+				f.Set(q, 0.3*math.Sin(2*math.Pi*45*tt), 0.6*math.Cos(2*math.Pi*20*tt))
+			}
+		}
+		p.Add(f)
+	}
+	seg := DefaultSegment(512)
+	if seg != 128 {
+		t.Fatalf("default segment %d for 512 samples, want 128", seg)
+	}
+	ps, err := p.Spectra(fs, seg, seg/2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ps.FilledU != 1 || ps.FilledV != 1 || math.Abs(ps.Dominant-20) > ps.U.DF {
+		t.Fatalf("filled %d/%d, dominant %g Hz (bin %g)", ps.FilledU, ps.FilledV, ps.Dominant, ps.U.DF)
+	}
+	if fu, _ := ps.U.Peak(); math.Abs(fu-45) > ps.U.DF {
+		t.Fatalf("u peak %g Hz, want 45", fu)
+	}
+	if DefaultSegment(10) != 10 || DefaultSegment(11) != 10 || DefaultSegment(40) != 8 {
+		t.Fatal("default segment of short records")
+	}
+}
