@@ -8,7 +8,6 @@ import (
 	"image/png"
 	"io"
 	"math"
-	"sort"
 
 	"github.com/wakekit/wakekit/piv"
 	"gonum.org/v1/plot"
@@ -55,9 +54,9 @@ type MapPlot struct {
 	Title  string
 	Unit   string // unit of the values, shown on the colour bar, e.g. "1/s"
 	Signed bool
-	// Min and Max fix the colour range; when both are zero it is automatic: for signed maps
-	// +-m with m the 99.5th percentile of |value|, otherwise the 0.5th to 99.5th percentiles,
-	// so a few outliers do not wash out the map.
+	// Min and Max fix the colour range (values beyond it take the end colours); when both are
+	// zero it is automatic: +-max|value| for signed maps, the smallest to the largest value
+	// otherwise.
 	Min, Max float64
 	// YName names the vertical coordinate on the axis label ("y" when empty; "r" suits the
 	// meridional plane of an axisymmetric flow).
@@ -101,36 +100,24 @@ func (m MapPlot) colourRange() (lo, hi float64, err error) {
 		}
 		return m.Min, m.Max, nil
 	}
-	var vals []float64
+	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, v := range m.Values {
 		if !math.IsNaN(v) && !math.IsInf(v, 0) {
-			if m.Signed {
-				v = math.Abs(v)
-			}
-			vals = append(vals, v)
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
 		}
 	}
-	if len(vals) == 0 {
+	if lo > hi {
 		return 0, 0, fmt.Errorf("map %q has no finite values", m.Title)
 	}
-	sort.Float64s(vals)
-	pct := func(p float64) float64 { return vals[int(math.Round(p*float64(len(vals)-1)))] }
 	if m.Signed {
-		hi = pct(0.995)
-		if hi == 0 {
-			hi = vals[len(vals)-1]
+		a := math.Max(math.Abs(lo), math.Abs(hi))
+		if a == 0 {
+			a = 1 // an all-zero map: any symmetric range shows it white
 		}
-		if hi == 0 {
-			hi = 1 // an all-zero map: any symmetric range shows it white
-		}
-		return -hi, hi, nil
-	}
-	lo, hi = pct(0.005), pct(0.995)
-	if !(hi > lo) {
-		lo, hi = vals[0], vals[len(vals)-1]
+		return -a, a, nil
 	}
 	if !(hi > lo) {
-		// A constant map: a unit-wide range around the value.
+		// A constant map: a range around the value.
 		d := math.Max(math.Abs(lo)*0.5, 1e-12)
 		lo, hi = lo-d, hi+d
 	}

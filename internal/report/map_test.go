@@ -153,3 +153,19 @@ func TestMapErrors(t *testing.T) {
 		t.Errorf("constant map: %v", err)
 	}
 }
+
+// TestColourRange checks the automatic colour ranges: symmetric about zero for signed maps,
+// the data's extent otherwise, fixed when Min and Max are given.
+func TestColourRange(t *testing.T) {
+	g := piv.Grid{NX: 4, NY: 1, DX: 1, DY: 1}
+	v := []float64{-2, 5, math.NaN(), 1}
+	if lo, hi, err := (MapPlot{Grid: g, Values: v, Signed: true}).colourRange(); err != nil || lo != -5 || hi != 5 {
+		t.Errorf("signed range %g..%g (%v), want -5..5", lo, hi, err)
+	}
+	if lo, hi, err := (MapPlot{Grid: g, Values: v}).colourRange(); err != nil || lo != -2 || hi != 5 {
+		t.Errorf("range %g..%g (%v), want -2..5", lo, hi, err)
+	}
+	if lo, hi, err := (MapPlot{Grid: g, Values: v, Min: -1, Max: 1}).colourRange(); err != nil || lo != -1 || hi != 1 {
+		t.Errorf("fixed range %g..%g (%v), want -1..1", lo, hi, err)
+	}
+}
