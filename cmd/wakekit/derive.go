@@ -221,13 +221,16 @@ func setupDerive(fs *pflag.FlagSet) func(e *env, args []string) error {
 		d := &deriver{set: set, scheme: sc, qs: qs, names: frameBases(series)}
 		b := pipeline.Batch{Dir: dir, Command: "derive", Version: version, Settings: set,
 			Tables: []pipeline.Table{{Name: "derive.csv", Header: d.tableHeader()}}}
-		rep, err := pipeline.RunBatch(context.Background(), series, popt, b, d.frame)
+		// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
+		ctx, stop := pipeline.SignalContext(context.Background())
+		defer stop()
+		rep, err := pipeline.RunBatch(ctx, series, popt, b, d.frame)
 		if err != nil {
 			if fresh && rep.Computed == 0 && rep.Reused == 0 {
 				os.Remove(filepath.Join(dir, pipeline.ManifestName))
 				os.Remove(dir) // only if empty
 			}
-			return err
+			return batchError(err, rep)
 		}
 		man, err := pipeline.ReadManifest(dir)
 		if err != nil {

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"context"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -147,6 +149,21 @@ func (r *runFlags) pipelineOptions(e *env, label string) (pipeline.Options, erro
 		opt.Progress = e.stderr
 	}
 	return opt, nil
+}
+
+// batchError explains a batch run that stopped early (SIGINT or SIGTERM): how far it got, and
+// that --resume finishes it. Other errors are returned as they are.
+func batchError(err error, rep pipeline.Report) error {
+	var se *pipeline.StoppedError
+	if !errors.As(err, &se) {
+		return err
+	}
+	why := "interrupted"
+	if !errors.Is(se.Err, context.Canceled) {
+		why = se.Err.Error()
+	}
+	return fmt.Errorf("stopped after %d of %d frames (%s); the finished frames are kept: run the same command again with --resume to finish",
+		rep.Reused+rep.Computed, rep.Total, why)
 }
 
 // outDir returns the output folder for a command, creating it. With no --out it is a folder

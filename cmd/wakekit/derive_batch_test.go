@@ -1,0 +1,247 @@
+package main
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"math/rand/v2"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"sync"
+	"syscall"
+	"testing"
+	"time"
+
+	"github.com/wakekit/wakekit/internal/pipeline"
+)
+
+// These tests run "wakekit derive" through the batch engine: shards and merge, SIGINT and
+// --resume in a real process, and memory on long series of large frames.
+
+func requireDerive(t *testing.T) {
+	t.Helper()
+	if _, ok := commands["derive"]; !ok {
+		t.Skip("this build has no derive command")
+	}
+}
+
+// synthRun writes a synthetic drifting, noisy Lamb–Oseen series and returns its frame index.
+func synthRun(t *testing.T, dir string, frames int, grid string) string {
+	t.Helper()
+	code, _, errs := runCapture("synth", "lamb-oseen", "--frames", fmt.Sprint(frames), "--grid", grid,
+		"--spacing", "2e-4", "--core-radius", "2e-3", "--dt", "0.01", "--nu", "1e-6", "--drift", "0.01,0.002",
+		"--noise", "0.0005", "--seed", "11", "--out", dir, "--quiet")
+	if code != 0 {
+		t.Fatalf("synth: %s", errs)
+	}
+	return filepath.Join(dir, "frames.csv")
+}
+
+// cycleIndex writes a frame index of n frames that cycles through the given files (distinct
+// frame times), so long series cost little disk while every frame is still read from its file.
+func cycleIndex(t *testing.T, path string, files []string, n int) {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("file,time [s]\n")
+	for k := 0; k < n; k++ {
+		fmt.Fprintf(&b, "%s,%g\n", files[k%len(files)], 0.01*float64(k))
+	}
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// The merge of 4 shards equals the single-machine run byte for byte: frame files, the
+// time-series table, the summary and the manifest.
+func TestDeriveFourShardsMergeEqualsSingleRun(t *testing.T) {
+	requireDerive(t)
+	tmp := t.TempDir()
+	index := synthRun(t, filepath.Join(tmp, "run"), 23, "48x40")
+	args := []string{"derive", index, "--quantities", "vorticity,q,lambda2,gamma2", "--format", "csv,vtk", "--quiet"}
+	single := filepath.Join(tmp, "single")
+	if code, _, errs := runCapture(append(args, "--out", single)...); code != 0 {
+		t.Fatalf("single run: %s", errs)
+	}
+	merge := []string{"merge"}
+	for k := 1; k <= 4; k++ {
+		d := filepath.Join(tmp, fmt.Sprintf("shard%d", k))
+		if code, _, errs := runCapture(append(args, "--shard", fmt.Sprintf("%d/4", k), "--workers", "1", "--out", d)...); code != 0 {
+			t.Fatalf("shard %d: %s", k, errs)
+		}
+		merge = append(merge, d)
+	}
+	merged := filepath.Join(tmp, "merged")
+	code, out, errs := runCapture(append(merge, "--out", merged)...)
+	if code != 0 {
+		t.Fatalf("merge: %s", errs)
+	}
+	if !strings.Contains(out, "merged 4 folders") || !strings.Contains(out, "23 frames") {
+		t.Errorf("merge summary: %q", out)
+	}
+	sameTrees(t, single, merged)
+	// Merging an incomplete set is refused, exit status 1.
+	if code, _, errs := runCapture("merge", merge[1], merge[2], "--out", filepath.Join(tmp, "m2")); code != 1 || !strings.Contains(errs, "in none of the folders") {
+		t.Errorf("merge of shards 1 and 2 of 4: status %d, %q", code, errs)
+	}
+	if code, _, _ := runCapture("merge", merge[1]); code != 2 {
+		t.Errorf("merge without --out: status %d, want 2", code)
+	}
+}
+
+// A derive run killed with SIGINT at a random frame leaves only complete files and says how far
+// it got; --resume then completes it with outputs identical to an uninterrupted run.
+func TestDeriveSIGINTThenResume(t *testing.T) {
+	requireDerive(t)
+	bin := buildWakekit(t)
+	tmp := t.TempDir()
+	const frames = 60
+	index := synthRun(t, filepath.Join(tmp, "run"), frames, "96x96")
+	args := []string{"derive", index, "--quantities", "vorticity,q,lambda2,swirl,gamma1,gamma2", "--workers", "2", "--quiet"}
+	ref := filepath.Join(tmp, "ref")
+	if out, err := exec.Command(bin, append(args, "--out", ref)...).CombinedOutput(); err != nil {
+		t.Fatalf("reference run: %v\n%s", err, out)
+	}
+	out := filepath.Join(tmp, "out")
+	stopAt := 2 + rand.IntN(frames/2)
+	cmd := exec.Command(bin, append(args, "--out", out)...)
+	var stdout, stderr bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &stdout, &stderr
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	manifest := filepath.Join(out, pipeline.ManifestName)
+	deadline := time.Now().Add(60 * time.Second)
+	for time.Now().Before(deadline) {
+		b, _ := os.ReadFile(manifest)
+		if bytes.Count(b, []byte{'\n'}) >= 1+stopAt {
+			break
+		}
+		time.Sleep(time.Millisecond)
+	}
+	if err := cmd.Process.Signal(syscall.SIGINT); err != nil {
+		t.Fatal(err)
+	}
+	err := cmd.Wait()
+	var ee *exec.ExitError
+	if !errors.As(err, &ee) || ee.ExitCode() != 1 {
+		t.Fatalf("interrupted derive: %v, stdout %q, stderr %q; want exit status 1", err, stdout.String(), stderr.String())
+	}
+	if !strings.Contains(stderr.String(), "stopped after") || !strings.Contains(stderr.String(), "--resume") {
+		t.Errorf("interrupted derive does not say how far it got and how to go on: %q", stderr.String())
+	}
+	t.Logf("SIGINT after frame %d: %s", stopAt, strings.TrimSpace(stderr.String()))
+	want := treeFiles(t, ref)
+	got := treeFiles(t, out)
+	for name, b := range got {
+		switch {
+		case strings.HasPrefix(filepath.Base(name), "."):
+			t.Errorf("%s: temporary file left behind", name)
+		case name == pipeline.ManifestName:
+		case string(want[name]) != string(b):
+			t.Errorf("%s: not a complete output", name)
+		}
+	}
+	if len(got) >= len(want) {
+		t.Fatalf("the interrupted run wrote %d files, the complete one %d: the signal came too late", len(got), len(want))
+	}
+	res, err := exec.Command(bin, append(args, "--out", out, "--resume")...).CombinedOutput()
+	if err != nil {
+		t.Fatalf("resumed derive: %v\n%s", err, res)
+	}
+	sameTrees(t, ref, out)
+}
+
+// memPeak samples the heap in use while f runs and returns its peak above the start.
+func memPeak(f func()) (peak uint64) {
+	runtime.GC()
+	var ms runtime.MemStats
+	runtime.ReadMemStats(&ms)
+	base := ms.HeapInuse + ms.StackInuse
+	stop := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		tick := time.NewTicker(5 * time.Millisecond)
+		defer tick.Stop()
+		for {
+			var m runtime.MemStats
+			runtime.ReadMemStats(&m)
+			if use := m.HeapInuse + m.StackInuse; use > base && use-base > peak {
+				peak = use - base
+			}
+			select {
+			case <-stop:
+				return
+			case <-tick.C:
+			}
+		}
+	}()
+	f()
+	close(stop)
+	wg.Wait()
+	return peak
+}
+
+// Streaming: the memory a derive run needs is set by the workers and the frame size, not by
+// the number of frames, and the frames of a long run are identical to the same frames derived
+// one by one. The acceptance size (2000 frames of 256x256) takes minutes and 18 GB of output on
+// a 2-core machine, so it runs with WAKEKIT_LARGE=1; by default the test runs 500 small frames
+// (memory independent of the count) and 12 frames of 256x256 (memory for the frame size).
+func TestDeriveStreamingMemory(t *testing.T) {
+	requireDerive(t)
+	cases := []struct {
+		frames int
+		grid   string
+	}{{500, "16x16"}, {12, "256x256"}}
+	if os.Getenv("WAKEKIT_LARGE") == "1" {
+		cases = []struct {
+			frames int
+			grid   string
+		}{{2000, "256x256"}}
+	}
+	const limit = 300 << 20 // the acceptance bound of the streaming engine
+	for _, c := range cases {
+		tmp := t.TempDir()
+		src := filepath.Join(tmp, "src")
+		synthRun(t, src, 4, c.grid)
+		files := []string{"frame_0000.csv", "frame_0001.csv", "frame_0002.csv", "frame_0003.csv"}
+		index := filepath.Join(src, "long.csv")
+		cycleIndex(t, index, files, c.frames)
+		out := filepath.Join(tmp, "out")
+		var code int
+		var errs string
+		start := time.Now()
+		peak := memPeak(func() {
+			code, _, errs = runCapture("derive", index, "--out", out, "--quiet", "--workers", "2")
+		})
+		if code != 0 {
+			t.Fatalf("%d frames of %s: %s", c.frames, c.grid, errs)
+		}
+		t.Logf("%d frames of %s: peak heap %.1f MB above the start, %.1f s", c.frames, c.grid, float64(peak)/(1<<20), time.Since(start).Seconds())
+		if peak > limit {
+			t.Errorf("%d frames of %s: peak heap %.1f MB exceeds %d MB", c.frames, c.grid, float64(peak)/(1<<20), limit>>20)
+		}
+		// Frames processed one by one give the same bytes: the first, the last and a few others.
+		for _, k := range []int{0, 1, c.frames/2 + 1, c.frames - 1, rand.IntN(c.frames)} {
+			one := filepath.Join(tmp, fmt.Sprintf("one-%d", k))
+			if code, _, errs := runCapture("derive", filepath.Join(src, files[k%4]), "--out", one, "--quiet", "--workers", "1"); code != 0 {
+				t.Fatalf("frame %d alone: %s", k, errs)
+			}
+			alone, err := os.ReadFile(filepath.Join(one, strings.TrimSuffix(files[k%4], ".csv")+".csv"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			inRun, err := os.ReadFile(filepath.Join(out, fmt.Sprintf("frame_%05d.csv", k)))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !bytes.Equal(alone, inRun) {
+				t.Errorf("%d frames of %s: frame %d differs from the same frame derived alone", c.frames, c.grid, k)
+			}
+		}
+	}
+}
