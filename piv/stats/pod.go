@@ -106,6 +106,15 @@ func (m *Modes) Cumulative() []float64 {
 	return c
 }
 
+// Share returns mode k's share of the fluctuation energy, λ_k / Σ λ (0 when there is none).
+func (m *Modes) Share(k int) float64 {
+	total := floats.Sum(m.Energies)
+	if total == 0 {
+		return 0
+	}
+	return m.Energies[k] / total
+}
+
 // Field returns mode k as a field (unit-norm mode shape; nodes outside the decomposition are
 // Missing).
 func (m *Modes) Field(k int) *piv.Field {

@@ -217,6 +217,9 @@ func TestPODKnownModes(t *testing.T) {
 			t.Errorf("mode %d energy %g, want 0", k+1, m.Energies[k])
 		}
 	}
+	if sh := m.Share(0); math.Abs(sh-energies[0]/total) > 1e-9 {
+		t.Errorf("mode 1 share %g, want %g", sh, energies[0]/total)
+	}
 	if c := m.Cumulative(); math.Abs(c[2]-1) > 1e-12 {
 		t.Errorf("three modes hold %g of the energy, want 1", c[2])
 	}
