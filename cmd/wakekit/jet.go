@@ -17,6 +17,7 @@ import (
 	"github.com/wakekit/wakekit/piv"
 	"github.com/wakekit/wakekit/piv/analytic"
 	"github.com/wakekit/wakekit/pressure"
+	"github.com/wakekit/wakekit/vorticity"
 )
 
 func init() {
@@ -178,6 +179,7 @@ type jetOutcome struct {
 	files      []string
 	axi        bool
 	frameCount int
+	seriesRef  *piv.Series // for the snapshot maps
 }
 
 func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run *runFlags, inputs []string, dir string) (*jetOutcome, error) {
@@ -189,7 +191,7 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	if _, err := circulation.ExitStation(first.Grid, s.exit); err != nil {
 		return nil, fmt.Errorf("%s: %w", first.Name(), err)
 	}
-	out := &jetOutcome{settings: s, axi: axi, frameCount: series.Len()}
+	out := &jetOutcome{settings: s, axi: axi, frameCount: series.Len(), seriesRef: series}
 	// Noise level for the uncertainties.
 	out.noise, out.noiseFrom = s.noise, "given (--noise)"
 	if s.noise < 0 {
@@ -624,6 +626,11 @@ func jetPlots(o *jetOutcome) ([]jetPlot, error) {
 				Lines: []report.Line{{Label: "core x", X: s.T, Y: s.RingX}, {Label: "core r", X: s.T, Y: s.CoreR}, {Label: "impulse radius", X: s.T, Y: s.RingR, Dashed: true}}}},
 	}
 	var out []jetPlot
+	snaps, err := jetSnapshots(o)
+	if err != nil {
+		return nil, err
+	}
+	out = append(out, snaps...)
 	for _, sp := range specs {
 		b, err := sp.plot.PNG()
 		if err != nil {
@@ -632,6 +639,83 @@ func jetPlots(o *jetOutcome) ([]jetPlot, error) {
 			continue
 		}
 		out = append(out, jetPlot{file: sp.file, img: report.Image{Title: sp.title, Caption: sp.caption, PNG: b}})
+	}
+	return out, nil
+}
+
+// jetSnapshots draws vorticity maps with velocity arrows, the nozzle lip and the tracked ring
+// core at three moments of the first pulse: the end of acceleration, the pulse end and the end
+// of its window.
+func jetSnapshots(o *jetOutcome) ([]jetPlot, error) {
+	if len(o.pulses) == 0 || o.seriesRef == nil {
+		return nil, nil
+	}
+	p := o.pulses[0]
+	t := o.series.T
+	nearest := func(x float64) int {
+		k := sort.SearchFloat64s(t, x)
+		if k >= len(t) {
+			return len(t) - 1
+		}
+		if k > 0 && x-t[k-1] < t[k]-x {
+			return k - 1
+		}
+		return k
+	}
+	ks := []int{nearest(p.AccelEnd), nearest(0.5 * (p.AccelEnd + p.End)), nearest(p.End), nearest(p.WindowEnd)}
+	// Shared colour range so the maps compare: the 99.5th percentile of |vorticity| over the
+	// snapshots, so that the thin exit shear layer of the first frames does not wash out the ring.
+	var fields []*piv.Field
+	var omegas [][]float64
+	var mags []float64
+	for _, k := range ks {
+		f, err := o.seriesRef.Frame(k)
+		if err != nil {
+			return nil, err
+		}
+		w := vorticity.Vorticity(f, vorticity.Central)
+		for _, v := range w {
+			if !math.IsNaN(v) {
+				mags = append(mags, math.Abs(v))
+			}
+		}
+		fields = append(fields, f)
+		omegas = append(omegas, w)
+	}
+	lim := 0.0
+	if len(mags) > 0 {
+		sort.Float64s(mags)
+		lim = mags[int(0.995*float64(len(mags)-1))]
+	}
+	if !(lim > 0) {
+		return nil, nil
+	}
+	c := o.settings.exit
+	axis := c.AxisY
+	if o.axi {
+		axis = fields[0].Geometry.AxisY
+	}
+	R, Rout := c.Diameter/2, c.LipOuter
+	if Rout <= R {
+		Rout = R * 1.05
+	}
+	var out []jetPlot
+	for n, k := range ks {
+		ov := []report.Overlay{{Label: "nozzle lip", Kind: report.Path, X: []float64{c.X, c.X}, Y: []float64{axis + R, axis + Rout}}}
+		if x, r := o.series.RingX[k], o.series.CoreR[k]; !math.IsNaN(x) && !math.IsNaN(r) {
+			ov = append(ov, report.Overlay{Label: "ring core", Kind: report.Markers, X: []float64{x}, Y: []float64{axis + r}})
+		}
+		m := report.MapPlot{Grid: fields[n].Grid, Values: omegas[n], Title: fmt.Sprintf("vorticity at t = %.3g s", t[k]),
+			Unit: "1/s", Signed: true, Min: -lim, Max: lim, YName: "r", Arrows: fields[n], Overlays: ov}
+		b, err := m.PNG(900, 450)
+		if err != nil {
+			o.notDone = append(o.notDone, fmt.Sprintf("The vorticity map at t = %.3g s was not drawn: %v.", t[k], err))
+			continue
+		}
+		out = append(out, jetPlot{file: fmt.Sprintf("vorticity_%d.png", n+1), img: report.Image{
+			Title:   fmt.Sprintf("Vorticity at t = %.3g s", t[k]),
+			Caption: "Azimuthal vorticity (central differences) with velocity arrows, the nozzle lip at the exit plane and the leading ring's core.",
+			PNG:     b}})
 	}
 	return out, nil
 }

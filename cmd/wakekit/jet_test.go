@@ -1,16 +1,23 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/wakekit/wakekit/circulation"
+	"github.com/wakekit/wakekit/piv"
+	"github.com/wakekit/wakekit/piv/analytic"
 )
 
 // jetRefDir is the CFD reference of an axisymmetric laminar starting jet (L/D = 4, Re = 1000)
@@ -149,5 +156,71 @@ func TestJetBadInput(t *testing.T) {
 		if code != c.code || !strings.Contains(stderr, c.want) {
 			t.Errorf("%v: exit %d, stderr %q; want %d and %q", c.args, code, stderr, c.code, c.want)
 		}
+	}
+}
+
+// lazyHillSeries is a series of n frames of nx x ny nodes of Hill's spherical vortex moving
+// along +x through the view, generated when a frame is read, so that the series itself holds
+// no frames in memory.
+func lazyHillSeries(n, nx, ny int) (*piv.Series, error) {
+	g := piv.Grid{NX: nx, NY: ny, X0: 0, Y0: 0, DX: 0.2 / float64(nx-1), DY: 0.1 / float64(ny-1)}
+	hill := analytic.Hill{Radius: 0.02, Speed: 0.05, X0: -0.03, Rho: 1000}
+	names := make([]string, n)
+	times := make([]float64, n)
+	for k := range names {
+		names[k] = fmt.Sprintf("frame %d", k)
+		times[k] = float64(k) * 4.0 / float64(n)
+	}
+	return piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
+		return analytic.Sample(hill, g, times[k]), nil
+	})
+}
+
+// BenchmarkJet runs the jet analysis (exit program, budgets, pressure reconstruction and route
+// (a), no Monte-Carlo replicas) on 250 and 1000 lazily generated frames of 256 x 128 and
+// reports the time per frame, per node and the peak heap in use: the peak must not grow with
+// the number of frames.
+func BenchmarkJet(b *testing.B) {
+	for _, n := range []int{250, 1000} {
+		b.Run(fmt.Sprintf("frames=%d", n), func(b *testing.B) {
+			var peak uint64
+			for it := 0; it < b.N; it++ {
+				series, err := lazyHillSeries(n, 256, 128)
+				if err != nil {
+					b.Fatal(err)
+				}
+				s := &jetSettings{exit: circulation.ExitConfig{X: 0, Diameter: 0.03, Rho: 1000, Nu: 1e-6},
+					threshold: 0.05, noise: 0, samples: 0, seed: 1, smooth: 3, restTime: math.NaN()}
+				runtime.GC()
+				stop := make(chan struct{})
+				done := make(chan uint64)
+				go func() {
+					var ms runtime.MemStats
+					var p uint64
+					tick := time.NewTicker(100 * time.Millisecond)
+					defer tick.Stop()
+					for {
+						runtime.ReadMemStats(&ms)
+						p = max(p, ms.HeapInuse)
+						select {
+						case <-stop:
+							done <- p
+							return
+						case <-tick.C:
+						}
+					}
+				}()
+				var out, errb bytes.Buffer
+				e := &env{stdout: &out, stderr: &errb}
+				if _, err := runJet(context.Background(), e, series, s, &runFlags{workers: runtime.NumCPU(), quiet: true}, nil, b.TempDir()); err != nil {
+					b.Fatal(err)
+				}
+				close(stop)
+				peak = max(peak, <-done)
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n), "ns/frame")
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n*256*128), "ns/node")
+			b.ReportMetric(float64(peak)/(1<<20), "peak-heap-MB")
+		})
 	}
 }
