@@ -65,7 +65,13 @@ const maxLine = 1 << 20
 // opt.Columns, '#' comment lines, empty or NaN cells for missing vectors, rows in any order.
 // Errors are *InputError values naming the file, line and column (the 1-based cell number).
 func ReadCSV(r io.Reader, name string, sizeHint int64, opt ReadOptions) (*Field, *FileInfo, error) {
-	cr := &csvReader{name: name, opt: opt, br: bufio.NewReaderSize(r, 1<<18), sizeHint: sizeHint}
+	return readCSV(r, name, sizeHint, 0, opt)
+}
+
+// readCSV is ReadCSV with a sampled mean line length [bytes] (0 when unknown) that makes the
+// row-count estimate robust to files whose first lines are shorter than the rest.
+func readCSV(r io.Reader, name string, sizeHint int64, lineLen float64, opt ReadOptions) (*Field, *FileInfo, error) {
+	cr := &csvReader{name: name, opt: opt, br: bufio.NewReaderSize(r, 1<<18), sizeHint: sizeHint, lineLen: lineLen}
 	cr.maxNodes = opt.MaxNodes
 	if cr.maxNodes <= 0 {
 		cr.maxNodes = DefaultMaxNodes
@@ -87,6 +93,7 @@ type csvReader struct {
 	opt      ReadOptions
 	br       *bufio.Reader
 	sizeHint int64
+	lineLen  float64 // sampled mean line length, 0 when unknown
 	maxNodes int
 
 	line      int   // current line number
@@ -480,6 +487,10 @@ func quoteList(cells []string) string {
 	return strings.Join(q, ", ")
 }
 
+// estimateRows is the number of rows after which the row count of the file is estimated from
+// its size.
+const estimateRows = 1024
+
 // reserve makes room for the columns, estimating the row count from the file size once a few
 // rows have been read.
 func (c *csvReader) reserve() error {
@@ -487,9 +498,19 @@ func (c *csvReader) reserve() error {
 		return c.errf(c.line, 0, "has more than %d data rows, the limit of grid nodes (--max-nodes)", c.maxNodes)
 	}
 	want := 2*cap(c.x) + 64
-	if c.rows >= 64 && c.sizeHint > c.bytesRead {
+	if c.rows >= estimateRows && c.sizeHint > c.bytesRead {
+		// Rows still to come from the bytes still to come at the mean line length so far, with
+		// a margin for lines that grow longer (coordinates gaining digits); a second estimate,
+		// needed only when the first proved short, takes a wider margin.
+		margin := 1.08
+		if c.rows > estimateRows {
+			margin = 1.25
+		}
 		per := float64(c.bytesRead) / float64(c.line)
-		est := c.rows + int(1.02*float64(c.sizeHint-c.bytesRead)/per) + 64
+		if c.lineLen > 0 {
+			per = c.lineLen
+		}
+		est := c.rows + int(margin*float64(c.sizeHint-c.bytesRead)/per) + 64
 		if est > c.rows {
 			want = est
 		}
@@ -507,7 +528,7 @@ func (c *csvReader) reserve() error {
 
 // row parses one data line.
 func (c *csvReader) row(line []byte) error {
-	if c.rows == cap(c.x) || (c.rows == 64 && c.sizeHint > 0) {
+	if c.rows == cap(c.x) || (c.rows == estimateRows && c.sizeHint > 0) {
 		if err := c.reserve(); err != nil {
 			return err
 		}
@@ -704,9 +725,23 @@ func (c *csvReader) field() (*Field, error) {
 		inOrder = inOrder && k == r
 	}
 	f := &Field{Grid: g, Status: status, Geometry: c.opt.Geometry, Source: c.name}
-	if inOrder {
+	switch {
+	case inOrder:
 		f.U, f.V = c.u, c.v
-	} else {
+	case c.rows == n:
+		// Every node once, in another order (y fastest, shuffled): permute the columns in
+		// place, cycle by cycle, so that no second pair of arrays is needed.
+		idx, u, v := c.x, c.u, c.v
+		for r := 0; r < n; r++ {
+			for int(idx[r]) != r {
+				k := int(idx[r])
+				u[r], u[k] = u[k], u[r]
+				v[r], v[k] = v[k], v[r]
+				idx[r], idx[k] = idx[k], idx[r]
+			}
+		}
+		f.U, f.V = u, v
+	default:
 		c.y, c.st = nil, nil // let the collector take them before U and V are allocated
 		f.U, f.V = NaNs(n), NaNs(n)
 		for r := 0; r < c.rows; r++ {

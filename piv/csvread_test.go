@@ -64,6 +64,49 @@ func TestReadCSVLayouts(t *testing.T) {
 	})
 }
 
+// A complete grid in column-major order (y fastest) and in a scrambled order must land on the
+// same nodes: u = i + 100 j, v = j - i by construction.
+func TestReadCSVRowOrders(t *testing.T) {
+	const nx, ny = 7, 5
+	type pt struct{ i, j int }
+	var colMajor, scrambled []pt
+	for i := 0; i < nx; i++ {
+		for j := 0; j < ny; j++ {
+			colMajor = append(colMajor, pt{i, j})
+		}
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	scrambled = append(scrambled, colMajor...)
+	rng.Shuffle(len(scrambled), func(a, b int) { scrambled[a], scrambled[b] = scrambled[b], scrambled[a] })
+	for name, order := range map[string][]pt{"column-major": colMajor, "scrambled": scrambled} {
+		var b strings.Builder
+		b.WriteString("x,y,u,v,status\n")
+		for _, p := range order {
+			st := "measured"
+			if p.i == 3 && p.j == 2 {
+				st = "replaced:median"
+			}
+			fmt.Fprintf(&b, "%g,%g,%d,%d,%s\n", 0.5*float64(p.i), 0.25*float64(p.j), p.i+100*p.j, p.j-p.i, st)
+		}
+		f, _ := readString(t, b.String(), ReadOptions{})
+		if f.Grid.NX != nx || f.Grid.NY != ny {
+			t.Fatalf("%s: grid %v", name, f.Grid)
+		}
+		for j := 0; j < ny; j++ {
+			for i := 0; i < nx; i++ {
+				k := f.Grid.Index(i, j)
+				want := Measured
+				if i == 3 && j == 2 {
+					want = Replaced | RejectedMedian
+				}
+				if f.U[k] != float64(i+100*j) || f.V[k] != float64(j-i) || f.Status[k] != want {
+					t.Fatalf("%s node (%d,%d): %v %v %v", name, i, j, f.U[k], f.V[k], f.Status[k])
+				}
+			}
+		}
+	}
+}
+
 func checkSmallField(t *testing.T, f *Field) {
 	t.Helper()
 	g := f.Grid
@@ -349,13 +392,17 @@ func FuzzReadCSV(f *testing.F) {
 // decimals and velocities with seven significant digits, as velocimetry exports print them).
 // It reports MB/s through SetBytes, ns per node, and the bytes allocated per decoded byte (the
 // decoded arrays are U, V and Status, 17 bytes per node); total allocation bounds peak memory.
-func BenchmarkReadCSV2048(b *testing.B) { benchReadCSV(b, 2048, false) }
+func BenchmarkReadCSV2048(b *testing.B) { benchReadCSV(b, 2048, false, false) }
 
 // BenchmarkReadCSVFullPrecision512 reads a 512x512 table as WriteCSV writes it (17 significant
 // digits, where the exact fast path gives way to strconv).
-func BenchmarkReadCSVFullPrecision512(b *testing.B) { benchReadCSV(b, 512, true) }
+func BenchmarkReadCSVFullPrecision512(b *testing.B) { benchReadCSV(b, 512, true, false) }
 
-func benchReadCSV(b *testing.B, n int, full bool) {
+// BenchmarkReadCSVColumnMajor1024 reads a 1024x1024 table written with y fastest, which the
+// reader permutes into grid order in place.
+func BenchmarkReadCSVColumnMajor1024(b *testing.B) { benchReadCSV(b, 1024, false, true) }
+
+func benchReadCSV(b *testing.B, n int, full, colMajor bool) {
 	path := filepath.Join(b.TempDir(), "big.csv")
 	fh, err := os.Create(path)
 	if err != nil {
@@ -366,8 +413,12 @@ func benchReadCSV(b *testing.B, n int, full bool) {
 	if full {
 		digits = -1
 	}
-	for j := 0; j < n; j++ {
-		for i := 0; i < n; i++ {
+	for a := 0; a < n; a++ {
+		for c := 0; c < n; c++ {
+			i, j := c, a
+			if colMajor {
+				i, j = a, c
+			}
 			buf = strconv.AppendFloat(buf, float64(i)*0.3125, 'f', 4, 64)
 			buf = append(buf, ',')
 			buf = strconv.AppendFloat(buf, float64(j)*0.3125, 'f', 4, 64)
