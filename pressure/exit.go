@@ -3,6 +3,7 @@ package pressure
 import (
 	"fmt"
 	"math"
+	"sort"
 
 	"github.com/wakekit/wakekit/piv"
 )
@@ -215,8 +216,8 @@ type PhaseImpulse struct {
 
 // PulseImpulses integrates the momentum flux m and pressure force p over the whole record and
 // over each pulse found in the exit flux q (see Pulses), split into its acceleration, hold and
-// deceleration phases. A pulse runs from the last frame below the threshold before it to the
-// first frame below it after it (or the record's ends).
+// deceleration phases. A pulse runs from where the flux starts rising before it crosses the
+// threshold to where it stops falling after it drops below it (or the record's ends).
 func PulseImpulses(t, m, p, q []float64) []PhaseImpulse {
 	if len(t) == 0 {
 		return nil
@@ -235,11 +236,13 @@ func PulseImpulses(t, m, p, q []float64) []PhaseImpulse {
 		return len(t) - 1
 	}
 	for n, pu := range Pulses(t, q) {
+		// Extend the pulse back over the start of the rise and forward over the end of the
+		// fall (below the threshold the flux is still changing monotonically).
 		a, b := at(pu.Start), at(pu.End)
-		if a > 0 {
+		for a > 0 && q[a-1] < q[a] {
 			a--
 		}
-		if b < len(t)-1 {
+		for b < len(t)-1 && q[b+1] < q[b] {
 			b++
 		}
 		name := fmt.Sprintf("pulse %d", n+1)
@@ -259,8 +262,9 @@ type Pulse struct {
 }
 
 // Pulses finds the pulses of an exit-flux history Q(t): runs where Q exceeds 5% of its peak
-// (common practice for a start/stop threshold). Within a pulse the acceleration phase is where
-// Q is below 95% of the pulse's peak before the peak, the deceleration phase the same after it.
+// (common practice for a start/stop threshold). Within a pulse the hold level is the median of
+// Q; the acceleration phase lasts until Q first reaches 95% of it and the deceleration phase
+// starts when Q last exceeds 95% of it.
 func Pulses(t, q []float64) []Pulse {
 	peak := 0.0
 	for _, v := range q {
@@ -282,21 +286,19 @@ func Pulses(t, q []float64) []Pulse {
 		if !above && on {
 			on = false
 			end := m - 1
-			pk, ipk := 0.0, start
+			// The hold level is the median flux of the pulse (robust to a start-up overshoot).
+			vals := append([]float64(nil), q[start:end+1]...)
+			sort.Float64s(vals)
+			hold := vals[len(vals)/2]
+			p := Pulse{Start: t[start], End: t[end], AccelEnd: t[start], DecelStart: t[end]}
 			for a := start; a <= end; a++ {
-				if q[a] > pk {
-					pk, ipk = q[a], a
-				}
-			}
-			p := Pulse{Start: t[start], End: t[end], AccelEnd: t[ipk], DecelStart: t[ipk]}
-			for a := start; a <= ipk; a++ {
-				if q[a] >= 0.95*pk {
+				if q[a] >= 0.95*hold {
 					p.AccelEnd = t[a]
 					break
 				}
 			}
-			for a := end; a >= ipk; a-- {
-				if q[a] >= 0.95*pk {
+			for a := end; a >= start; a-- {
+				if q[a] >= 0.95*hold {
 					p.DecelStart = t[a]
 					break
 				}
