@@ -7,6 +7,7 @@ import (
 	"github.com/wakekit/wakekit/piv"
 	"github.com/wakekit/wakekit/piv/analytic"
 	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/stat"
 )
 
 // Hill's spherical vortex has circulation 5 U a and impulse 2 pi rho a^3 U (Lamb,
@@ -132,5 +133,30 @@ func TestBudgetNoiseEstimate(t *testing.T) {
 		if math.Abs(est/sigma-1) > 0.1 {
 			t.Errorf("sigma %g: estimated %g", sigma, est)
 		}
+	}
+}
+
+// The Monte-Carlo spread is the sample standard deviation, checked against gonum's
+// stat.StdDev; NaN replica values are left out, and fewer than two values give NaN.
+func TestBudgetSpread(t *testing.T) {
+	vals := []float64{1.2, 0.7, 1.9, 1.1, math.NaN(), 0.95}
+	base := []BudgetFigure{{Key: "a", Value: 1}, {Key: "b", Value: 2}}
+	var reps [][]BudgetFigure
+	var finite []float64
+	for k, v := range vals {
+		reps = append(reps, []BudgetFigure{{Key: "a", Value: v}, {Key: "b", Value: math.NaN()}})
+		if k == 0 {
+			reps[0][1].Value = 3
+		}
+		if !math.IsNaN(v) {
+			finite = append(finite, v)
+		}
+	}
+	s := BudgetSpread(base, reps)
+	if want := stat.StdDev(finite, nil); math.Abs(s[0]-want) > 1e-12 {
+		t.Errorf("spread %g, gonum %g", s[0], want)
+	}
+	if !math.IsNaN(s[1]) {
+		t.Errorf("spread from one value %g, want NaN", s[1])
 	}
 }
