@@ -182,6 +182,16 @@ func (st *trackState) predict(t float64) (x, y float64) {
 	return p.X + (p.X-q.X)/dt*(t-p.Time), p.Y + (p.Y-q.Y)/dt*(t-p.Time)
 }
 
+// Active returns the tracks still open after the last Add, without smoothed velocities (for
+// drawing the paths so far). The point slices are shared with the tracker: read only.
+func (tr *Tracker) Active() []Track {
+	out := make([]Track, len(tr.active))
+	for a, st := range tr.active {
+		out[a] = st.Track
+	}
+	return out
+}
+
 // Tracks ends tracking and returns every track in order of ID, with smoothed velocities: at
 // each point the slope of the least-squares line (gonum stat.LinearRegression) through the
 // Smooth points centred on it (shifted inwards at the track ends).

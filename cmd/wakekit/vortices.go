@@ -1,0 +1,408 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+
+	"github.com/spf13/pflag"
+	"github.com/wakekit/wakekit/circulation"
+	"github.com/wakekit/wakekit/internal/pipeline"
+	"github.com/wakekit/wakekit/internal/report"
+	"github.com/wakekit/wakekit/piv"
+	"github.com/wakekit/wakekit/vorticity"
+)
+
+func init() {
+	register(&command{
+		name:    "vortices",
+		summary: "detects vortex cores in each frame and tracks them through the series",
+		usage:   "wakekit vortices [flags] FILES...",
+		help: `Finds vortex cores in every frame as connected regions where the chosen criterion holds,
+split by the sense of rotation:
+
+  gamma2   |Gamma2| > 2/pi (Graftieaux, Michard & Grosjean 2001; default)
+  q        Q > threshold (Hunt, Wray & Moin 1988)
+  lambda2  lambda2 < -threshold (Jeong & Hussain 1995)
+  swirl    swirling strength > threshold (Zhou et al. 1999)
+
+For each core: vorticity-weighted centroid, peak vorticity, circulation (area integral),
+area, equivalent radius, mean vorticity, and the core radius of a Lamb–Oseen fit. Cores are
+then tracked frame to frame (constant-velocity prediction, same sense of rotation, gated
+distance); each track has a birth and a death frame and a convection velocity smoothed by a
+local least-squares line. With --axisymmetric, cores above the axis are read as vortex rings
+and their circulation, ring radius, impulse radius, impulse and kinetic energy are written
+with the speed from the track beside Saffman's (1970) viscous-core prediction.
+
+Writes cores.csv, tracks.csv, track_summary.csv (and rings.csv with --axisymmetric) in the
+output folder; with --format png also maps/vorticity_NNNN.png with cores and track paths.
+Tracking needs at least 2 frames.
+
+Examples:
+  wakekit vortices tank2/run3/ --out run3-vortices
+  wakekit vortices 'run3/frame_*.csv' --dt 0.002 --criterion q --format png -o run3-q
+  wakekit vortices run3/frames.csv --axisymmetric --axis 0 --rho 998 --min-nodes 12`,
+		setup: setupVortices,
+	})
+}
+
+// vortexSettings are the parsed options of a vortices run.
+type vortexSettings struct {
+	crit        circulation.Criterion
+	detect      circulation.DetectOptions
+	scheme      vorticity.Scheme
+	gammaRadius int
+	track       circulation.TrackOptions
+	rho         float64
+	png         bool
+}
+
+func setupVortices(fs *pflag.FlagSet) func(e *env, args []string) error {
+	rf := addReadFlags(fs)
+	run := addRunFlags(fs)
+	crit := fs.String("criterion", "gamma2", "vortex criterion: gamma2, q, lambda2 or swirl")
+	thr := fs.Float64("threshold", math.NaN(), "criterion threshold (default 2/pi for gamma2, 0 for the others)")
+	minNodes := fs.Int("min-nodes", 5, "smallest core kept [nodes]")
+	gr := fs.Int("gamma-radius", circulation.DefaultGammaRadius, "half-width of the Gamma2 square [nodes]")
+	noFit := fs.Bool("no-fit", false, "skip the Lamb–Oseen fit of each core")
+	scheme := fs.String("scheme", "central", "difference scheme of the vorticity: central, richardson, least-squares or circulation")
+	gate := fs.Float64("gate", 0, "largest jump [m] between a track's predicted position and its next core (default 1.5 equivalent radii)")
+	maxGap := fs.Int("max-gap", 0, "frames a track may go unseen before it ends")
+	smooth := fs.Int("smooth", 5, "points of the least-squares line that smooths the convection velocity")
+	rho := fs.Float64("rho", 1000, "fluid density [kg/m^3] for ring impulse and energy")
+	format := fs.String("format", "", "also draw maps: png")
+	return func(e *env, args []string) error {
+		if len(args) == 0 {
+			return usagef("no input files given")
+		}
+		var st vortexSettings
+		var err error
+		if st.crit, err = circulation.ParseCriterion(*crit); err != nil {
+			return usagef("--criterion: %v", err)
+		}
+		if st.scheme, err = vorticity.ParseScheme(*scheme); err != nil {
+			return usagef("--scheme: %v", err)
+		}
+		if !math.IsNaN(*thr) {
+			if math.IsInf(*thr, 0) || (st.crit == circulation.Gamma2 && !(*thr > 0 && *thr < 1)) {
+				return usagef("--threshold %g: give a finite value (between 0 and 1 for gamma2)", *thr)
+			}
+			st.detect.Threshold, st.detect.SetThreshold = *thr, true
+		}
+		if *minNodes < 1 || *gr < 1 || *maxGap < 0 || *smooth < 2 {
+			return usagef("--min-nodes and --gamma-radius must be at least 1, --max-gap at least 0 and --smooth at least 2")
+		}
+		if *gate < 0 || math.IsNaN(*gate) || !(*rho > 0) || math.IsInf(*rho, 0) {
+			return usagef("--gate must not be negative and --rho must be positive")
+		}
+		switch *format {
+		case "":
+		case "png":
+			st.png = true
+		default:
+			return usagef("--format %q: expected png", *format)
+		}
+		st.detect.MinNodes, st.detect.NoFit = *minNodes, *noFit
+		st.gammaRadius = *gr
+		st.track = circulation.TrackOptions{Gate: *gate, MaxGap: *maxGap, Smooth: *smooth}
+		st.rho = *rho
+		series, err := rf.open(args)
+		if err != nil {
+			return err
+		}
+		if series.Len() < 2 {
+			return fmt.Errorf("%s: tracking needs at least 2 frames; the series has 1", series.Name(0))
+		}
+		popt, err := run.pipelineOptions(e, "vortices")
+		if err != nil {
+			return err
+		}
+		if !popt.Shard.IsAll() || popt.Resume {
+			return usagef("vortices tracks through the whole series and does not take --shard or --resume")
+		}
+		dir, err := run.outDir("vortices", args)
+		if err != nil {
+			return err
+		}
+		return runVortices(e, series, popt, st, dir)
+	}
+}
+
+// vortexFrame is the detection result of one frame.
+type vortexFrame struct {
+	field *piv.Field // kept only for drawing
+	omega []float64  // kept only for drawing
+	time  float64
+	name  string
+	cores []circulation.Core
+	rings []*circulation.Ring // per core; nil below the axis or for planar data
+}
+
+func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings, dir string) error {
+	var axisym bool
+	proc := func(ctx context.Context, k int, fr pipeline.Frames) (vortexFrame, error) {
+		f, err := fr.Frame(k)
+		if err != nil {
+			return vortexFrame{}, err
+		}
+		crit, omega := circulation.CriterionField(f, st.crit, st.scheme, st.gammaRadius)
+		cores, err := circulation.Detect(f, st.crit, crit, omega, st.detect)
+		if err != nil {
+			return vortexFrame{}, err
+		}
+		vf := vortexFrame{time: f.Time, name: f.Name(), cores: cores, rings: make([]*circulation.Ring, len(cores))}
+		if f.Geometry.Axisymmetric {
+			for c := range cores {
+				if !(cores[c].Y > f.Geometry.AxisY) {
+					continue
+				}
+				reg, err := circulation.NodeRegion(f.Grid, cores[c].Nodes)
+				if err != nil {
+					return vortexFrame{}, err
+				}
+				ring, err := circulation.RingOf(f, omega, reg, st.rho)
+				if err != nil {
+					return vortexFrame{}, err
+				}
+				vf.rings[c] = &ring
+			}
+		}
+		if st.png {
+			vf.field, vf.omega = f, omega
+		}
+		return vf, nil
+	}
+	tr := circulation.NewTracker(st.track)
+	var frames []vortexFrame
+	if st.png {
+		if err := os.MkdirAll(filepath.Join(dir, "maps"), 0o755); err != nil {
+			return err
+		}
+	}
+	emit := func(k int, vf vortexFrame) error {
+		if err := tr.Add(k, vf.time, vf.cores); err != nil {
+			return fmt.Errorf("%s: %v", vf.name, err)
+		}
+		if vf.field != nil {
+			axisym = vf.field.Geometry.Axisymmetric
+			if err := drawVortexMap(filepath.Join(dir, "maps", fmt.Sprintf("vorticity_%04d.png", k)), k, vf, tr.Active()); err != nil {
+				return err
+			}
+		}
+		vf.field, vf.omega = nil, nil
+		for c := range vf.cores {
+			vf.cores[c].Nodes = nil // not needed past detection; frees memory
+		}
+		frames = append(frames, vf)
+		return nil
+	}
+	if _, err := pipeline.Run(context.Background(), s, popt, proc, emit); err != nil {
+		return err
+	}
+	for _, vf := range frames {
+		for _, r := range vf.rings {
+			axisym = axisym || r != nil
+		}
+	}
+	tracks := tr.Tracks()
+	// Track ID and point of every (frame, core).
+	type ref struct{ track, point int }
+	refs := map[[2]int]ref{}
+	for a, tk := range tracks {
+		for p, pt := range tk.Points {
+			refs[[2]int{pt.Frame, pt.Core}] = ref{a, p}
+		}
+	}
+	ncores := 0
+	err := piv.WriteFileAtomic(filepath.Join(dir, "cores.csv"), func(w io.Writer) error {
+		if _, err := fmt.Fprintln(w, "frame,time [s],core,track,sign,x [m],y [m],peak_x [m],peak_y [m],peak_omega [1/s],gamma [m^2/s],area [m^2],eq_radius [m],core_radius [m],mean_omega [1/s],missing_share"); err != nil {
+			return err
+		}
+		for k, vf := range frames {
+			for c, co := range vf.cores {
+				ncores++
+				id := 0
+				if r, ok := refs[[2]int{k, c}]; ok {
+					id = tracks[r.track].ID
+				}
+				if _, err := fmt.Fprintf(w, "%d,%s,%d,%d,%d,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), c+1, id, co.Sign,
+					cnum(co.X), cnum(co.Y), cnum(co.PeakX), cnum(co.PeakY), cnum(co.PeakOmega), cnum(co.Gamma), cnum(co.Area),
+					cnum(co.EqRadius), cnum(co.CoreRadius), cnum(co.MeanOmega), cnum(co.MissingShare)); err != nil {
+					return err
+				}
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = piv.WriteFileAtomic(filepath.Join(dir, "tracks.csv"), func(w io.Writer) error {
+		if _, err := fmt.Fprintln(w, "track,frame,time [s],core,sign,x [m],y [m],u [m/s],v [m/s],gamma [m^2/s],eq_radius [m],core_radius [m]"); err != nil {
+			return err
+		}
+		for _, tk := range tracks {
+			for _, p := range tk.Points {
+				if _, err := fmt.Fprintf(w, "%d,%d,%s,%d,%d,%s,%s,%s,%s,%s,%s,%s\n", tk.ID, p.Frame, cnum(p.Time), p.Core+1, tk.Sign,
+					cnum(p.X), cnum(p.Y), cnum(p.U), cnum(p.V), cnum(p.Gamma), cnum(p.EqRadius), cnum(p.CoreRadius)); err != nil {
+					return err
+				}
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = piv.WriteFileAtomic(filepath.Join(dir, "track_summary.csv"), func(w io.Writer) error {
+		if _, err := fmt.Fprintln(w, "track,sign,birth_frame,death_frame,born_in_view,died_in_view,points,mean_gamma [m^2/s],mean_speed [m/s]"); err != nil {
+			return err
+		}
+		for _, tk := range tracks {
+			if _, err := fmt.Fprintf(w, "%d,%d,%d,%d,%t,%t,%d,%s,%s\n", tk.ID, tk.Sign, tk.Birth, tk.Death, tk.Born, tk.Died,
+				len(tk.Points), cnum(meanGamma(tk)), cnum(tk.Speed())); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	if axisym {
+		err = piv.WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {
+			if _, err := fmt.Fprintln(w, "frame,time [s],core,track,gamma [m^2/s],x [m],ring_radius [m],impulse_radius [m],impulse [N s],energy [J],core_radius [m],speed_track [m/s],speed_saffman [m/s]"); err != nil {
+				return err
+			}
+			for k, vf := range frames {
+				for c, ring := range vf.rings {
+					if ring == nil {
+						continue
+					}
+					id, speed := 0, math.NaN()
+					if r, ok := refs[[2]int{k, c}]; ok {
+						id = tracks[r.track].ID
+						speed = tracks[r.track].Points[r.point].U
+					}
+					a := vf.cores[c].CoreRadius
+					if _, err := fmt.Fprintf(w, "%d,%s,%d,%d,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), c+1, id,
+						cnum(ring.Gamma), cnum(ring.X), cnum(ring.R), cnum(ring.RI), cnum(ring.Impulse), cnum(ring.Energy),
+						cnum(a), cnum(speed), cnum(circulation.SaffmanSpeed(ring.Gamma, ring.R, a))); err != nil {
+						return err
+					}
+				}
+			}
+			return nil
+		})
+		if err != nil {
+			return err
+		}
+	}
+	fmt.Fprintf(e.stdout, "%d frames, %d cores (%s criterion), %d tracks\n", len(frames), ncores, st.crit, len(tracks))
+	tw := newTextTable(e.stdout, "track", "sense", "frames", "mean Γ [m²/s]", "speed [m/s]", "born", "died")
+	for _, tk := range tracks {
+		sense := "ccw"
+		if tk.Sign < 0 {
+			sense = "cw"
+		}
+		tw.row(strconv.Itoa(tk.ID), sense, fmt.Sprintf("%d-%d", tk.Birth, tk.Death), fmt.Sprintf("%.4g", meanGamma(tk)),
+			fmt.Sprintf("%.4g", tk.Speed()), yesNo(tk.Born), yesNo(tk.Died))
+	}
+	tw.flush()
+	if axisym {
+		printRings(e.stdout, frames, tracks, refsLast(tracks))
+	}
+	fmt.Fprintf(e.stdout, "wrote %s\n", dir)
+	return nil
+}
+
+// refsLast returns, per track, its last point.
+func refsLast(tracks []circulation.Track) []circulation.TrackPoint {
+	out := make([]circulation.TrackPoint, len(tracks))
+	for a, tk := range tracks {
+		out[a] = tk.Points[len(tk.Points)-1]
+	}
+	return out
+}
+
+// printRings prints, for every track with ring properties, the ring at its last frame.
+func printRings(w io.Writer, frames []vortexFrame, tracks []circulation.Track, last []circulation.TrackPoint) {
+	tw := newTextTable(w, "ring (track)", "frame", "Γ [m²/s]", "R [m]", "impulse [N s]", "speed [m/s]", "Saffman [m/s]")
+	n := 0
+	for a, tk := range tracks {
+		p := last[a]
+		ring := frames[p.Frame].rings[p.Core]
+		if ring == nil {
+			continue
+		}
+		n++
+		tw.row(strconv.Itoa(tk.ID), strconv.Itoa(p.Frame), fmt.Sprintf("%.4g", ring.Gamma), fmt.Sprintf("%.4g", ring.R),
+			fmt.Sprintf("%.4g", ring.Impulse), fmt.Sprintf("%.4g", p.U),
+			fmt.Sprintf("%.4g", circulation.SaffmanSpeed(ring.Gamma, ring.R, frames[p.Frame].cores[p.Core].CoreRadius)))
+	}
+	if n > 0 {
+		fmt.Fprintln(w)
+		tw.flush()
+	}
+}
+
+func meanGamma(tk circulation.Track) float64 {
+	s := 0.0
+	for _, p := range tk.Points {
+		s += p.Gamma
+	}
+	return s / float64(len(tk.Points))
+}
+
+func yesNo(b bool) string {
+	if b {
+		return "yes"
+	}
+	return "no"
+}
+
+// drawVortexMap draws the vorticity of one frame with its cores and the tracks so far.
+func drawVortexMap(path string, k int, vf vortexFrame, active []circulation.Track) error {
+	g := vf.field.Grid
+	m := report.MapPlot{Grid: g, Values: vf.omega, Title: fmt.Sprintf("vorticity, frame %d, t = %.4g s", k, vf.time),
+		Unit: "1/s", Signed: true}
+	if vf.field.Geometry.Axisymmetric {
+		m.YName = "r"
+	}
+	ccw := report.Overlay{Label: "ccw core", Kind: report.Markers, Colour: color.RGBA{R: 0x80, A: 0xff}}
+	cw := report.Overlay{Label: "cw core", Kind: report.Markers, Colour: color.RGBA{B: 0x80, A: 0xff}}
+	for c := range vf.cores {
+		x, y := vf.cores[c].Centre()
+		if math.IsNaN(x) {
+			continue
+		}
+		if vf.cores[c].Sign > 0 {
+			ccw.X, ccw.Y = append(ccw.X, x), append(ccw.Y, y)
+		} else {
+			cw.X, cw.Y = append(cw.X, x), append(cw.Y, y)
+		}
+	}
+	for _, o := range []report.Overlay{ccw, cw} {
+		if len(o.X) > 0 {
+			m.Overlays = append(m.Overlays, o)
+		}
+	}
+	for _, tk := range active {
+		if len(tk.Points) < 2 {
+			continue
+		}
+		o := report.Overlay{Kind: report.Path}
+		for _, p := range tk.Points {
+			o.X, o.Y = append(o.X, p.X), append(o.Y, p.Y)
+		}
+		m.Overlays = append(m.Overlays, o)
+	}
+	wpx := 960
+	hpx := min(1200, max(360, int(float64(wpx)*float64(g.NY)/float64(g.NX))+120))
+	return m.WritePNG(path, wpx, hpx)
+}
