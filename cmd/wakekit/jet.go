@@ -612,7 +612,7 @@ func jetPlots(o *jetOutcome) ([]jetPlot, error) {
 				Lines: []report.Line{{Label: "U0 (area average)", X: s.T, Y: s.U0}, {Label: "centreline", X: s.T, Y: s.Centre, Dashed: true}}}},
 		{"circulation_budget.png", "Circulation budget versus formation time",
 			"Circulation in view, its leading-ring share, the slug-model circulation (1/2) int U0^2 dt and the circulation delivered by the vorticity flux through the exit station, against the formation time t* = L/D. After the pulse t* stays constant and the curves show the later evolution as vertical runs.",
-			report.LinePlot{Title: "Circulation budget", XLabel: "formation time L/D", YLabel: "circulation [m^2/s]",
+			report.LinePlot{Title: "Circulation budget", XLabel: "formation time L/D", YLabel: "circulation [m^2/s]", LegendLeft: true,
 				Lines: []report.Line{{Label: "in view", X: s.TStar, Y: s.Gamma}, {Label: "leading ring", X: s.TStar, Y: s.RingGamma, Dashed: true},
 					{Label: "slug model", X: s.TStar, Y: s.Slug}, {Label: "delivered (flux)", X: s.TStar, Y: s.Delivered, Dashed: true}}}},
 		{"thrust_split.png", "Thrust split versus time",

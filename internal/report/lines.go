@@ -33,6 +33,8 @@ type LinePlot struct {
 	Markers               []Marker
 	// Width and Height in centimetres (0 means 16 x 10).
 	Width, Height float64
+	// LegendLeft puts the legend in the top left corner instead of the top right.
+	LegendLeft bool
 }
 
 // lineColours are distinguishable on screen and in greyscale print (dark to light).
@@ -73,6 +75,7 @@ func (lp LinePlot) PNG() ([]byte, error) {
 	p.X.Label.Text = lp.XLabel
 	p.Y.Label.Text = lp.YLabel
 	p.Legend.Top = true
+	p.Legend.Left = lp.LegendLeft
 	p.Add(plotter.NewGrid())
 	any := false
 	for n, l := range lp.Lines {
