@@ -245,3 +245,55 @@ func TestDeriveStreamingMemory(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkDeriveScaling measures "wakekit derive" throughput on 512x512 CSV frames with 1 and
+// 2 workers and reports the speed-up. The series has WAKEKIT_BENCH_FRAMES frames (default 8;
+// the acceptance figure uses 1000, which needs about 30 GB of scratch space for the outputs)
+// cycling through 4 synthetic files. Three alternating rounds, fastest of each kept, so that
+// load from other programs biases neither count:
+//
+//	go test -run '^$' -bench DeriveScaling -benchtime 1x ./cmd/wakekit/
+func BenchmarkDeriveScaling(b *testing.B) {
+	frames := 8
+	if v := os.Getenv("WAKEKIT_BENCH_FRAMES"); v != "" {
+		fmt.Sscan(v, &frames)
+	}
+	tmp := b.TempDir()
+	src := filepath.Join(tmp, "src")
+	if code, _, errs := runCapture("synth", "lamb-oseen", "--frames", "4", "--grid", "512x512", "--spacing", "1e-4",
+		"--noise", "0.001", "--seed", "5", "--out", src, "--quiet"); code != 0 {
+		b.Fatalf("synth: %s", errs)
+	}
+	var idx strings.Builder
+	idx.WriteString("file,time [s]\n")
+	for k := 0; k < frames; k++ {
+		fmt.Fprintf(&idx, "frame_%04d.csv,%g\n", k%4, 0.01*float64(k))
+	}
+	index := filepath.Join(src, "long.csv")
+	if err := os.WriteFile(index, []byte(idx.String()), 0o644); err != nil {
+		b.Fatal(err)
+	}
+	best := map[int]time.Duration{}
+	b.ResetTimer()
+	for it := 0; it < b.N; it++ {
+		for round := 0; round < 3; round++ {
+			for _, workers := range []int{1, 2} {
+				out := filepath.Join(tmp, fmt.Sprintf("out-%d-%d-%d", it, round, workers))
+				start := time.Now()
+				if code, _, errs := runCapture("derive", index, "--out", out, "--quiet", "--workers", fmt.Sprint(workers)); code != 0 {
+					b.Fatalf("derive: %s", errs)
+				}
+				if d := time.Since(start); best[workers] == 0 || d < best[workers] {
+					best[workers] = d
+				}
+				os.RemoveAll(out)
+			}
+		}
+	}
+	const nodes = 512 * 512
+	for _, workers := range []int{1, 2} {
+		b.ReportMetric(float64(best[workers].Nanoseconds())/float64(frames*nodes), fmt.Sprintf("ns/node/%dworkers", workers))
+		b.ReportMetric(float64(frames)/best[workers].Seconds(), fmt.Sprintf("frames/s/%dworkers", workers))
+	}
+	b.ReportMetric(best[1].Seconds()/best[2].Seconds(), "speedup-2v1")
+}
