@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math/rand/v2"
+	"strings"
 	"sync/atomic"
 	"testing"
 	"time"
@@ -228,5 +229,22 @@ func TestProgressLine(t *testing.T) {
 	}
 	if got := ProgressLine("derive", 0, 10, 0); got != "derive: 0/10 frames" {
 		t.Errorf("ProgressLine at start = %q", got)
+	}
+}
+
+// The progress line is redrawn in place (carriage return, clear to the end of the line) and
+// ends with a newline once the run is over; without a writer nothing is drawn.
+func TestRunDrawsProgress(t *testing.T) {
+	s := memSeries(t, 10, 2, 2, nil)
+	var buf strings.Builder
+	_, err := Run(context.Background(), s, Options{Workers: 2, Progress: &buf, Label: "derive"},
+		func(ctx context.Context, k int, fr Frames) (int, error) { return k, nil },
+		func(k, r int) error { return nil })
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := buf.String()
+	if !strings.HasPrefix(out, "\rderive: ") || !strings.Contains(out, "derive: 10/10 frames") || !strings.HasSuffix(out, "\n") {
+		t.Errorf("progress output %q", out)
 	}
 }
