@@ -9,6 +9,8 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+
+	"gonum.org/v1/gonum/stat"
 )
 
 // FileInfo describes how an input file was read: format, layout and the units found, for
@@ -841,6 +843,7 @@ func (c *csvReader) axisSlow(vals []float64, s int, lo, hi float64) (x0, h float
 		return 0
 	}
 	idx := 0
+	ids := make([]float64, len(d))
 	for k := 1; k < len(d); k++ {
 		q := (d[k] - d[k-1]) / minGap
 		if math.Abs(q-math.Round(q)) > 0.2 {
@@ -849,17 +852,26 @@ func (c *csvReader) axisSlow(vals []float64, s int, lo, hi float64) (x0, h float
 				name, name, d[k-1], line(d[k-1]), d[k], d[k]-d[k-1], minGap, d[at-1], line(d[at-1]), d[at], line(d[at]))
 		}
 		idx += int(math.Round(q))
+		ids[k] = float64(idx)
 		if idx > c.maxNodes {
 			return 0, 0, 0, c.errf(0, 0, "the %s coordinates (%g..%g m with steps of %g m) imply more than %d grid lines, the limit of grid nodes",
 				name, lo, hi, minGap, c.maxNodes)
 		}
 	}
 	h = (hi - lo) / float64(idx)
-	if r := c.onLattice(vals, lo, h); r >= 0 {
-		off := (vals[r] - lo) / h
-		return 0, 0, 0, c.errf(c.lineOf(r), c.cellOf[s]+1,
-			"point off the grid: %s = %g m lies %.2f spacings from the nearest grid line (spacing %g m from %g m)",
-			name, vals[r], math.Abs(off-math.Round(off)), h, lo)
+	if c.onLattice(vals, lo, h) >= 0 {
+		// Blame the coordinate farthest from the least-squares lattice through all of them
+		// (gonum's linear regression), not merely the first one outside the tolerance.
+		a, hh := stat.LinearRegression(ids, d, nil, false)
+		worst, dev := 0, -1.0
+		for k := range d {
+			if e := math.Abs(d[k] - (a + hh*ids[k])); e > dev {
+				worst, dev = k, e
+			}
+		}
+		return 0, 0, 0, c.errf(line(d[worst]), c.cellOf[s]+1,
+			"point off the grid: %s = %g m lies %.2f spacings from the nearest line of the best-fitting grid (spacing %g m from %g m)",
+			name, d[worst], dev/hh, hh, a)
 	}
 	return lo, h, idx + 1, nil
 }

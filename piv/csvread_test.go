@@ -224,6 +224,11 @@ func TestReadCSVErrors(t *testing.T) {
 		{"ragged", "x,y,u,v\n0,0,1,1\n1,0,1\n", ReadOptions{}, 3, 3, "row has 3 columns"},
 		{"duplicate", "x,y,u,v\n0,0,1,1\n1,0,1,1\n0,1,1,1\n1,1,1,1\n0,0,2,2\n", ReadOptions{}, 6, 1, "also on line 2"},
 		{"irregular", "x,y,u,v\n0,0,1,1\n1,0,1,1\n3.5,0,1,1\n0,1,1,1\n", ReadOptions{}, 4, 1, "not uniform"},
+		// Steps 1, 1, 1, 1.15: each within the step tolerance, but the coordinates are no
+		// lattice. Least squares through (0,0) (1,1) (2,2) (3,3) (4,4.15) by hand: slope
+		// Sxy/Sxx = 10.3/10 = 1.03, intercept 2.03 - 2*1.03 = -0.03; the largest residual is at
+		// x = 4.15: 4.15 - 4.09 = 0.06 m = 0.058 spacings.
+		{"off the lattice", "x,y,u,v\n0,0,1,1\n1,0,1,1\n2,0,1,1\n3,0,1,1\n4.15,0,1,1\n0,1,1,1\n", ReadOptions{}, 6, 1, "x = 4.15 m lies 0.06 spacings"},
 		{"unknown unit", "x [furlong],y,u,v\n0,0,1,1\n", ReadOptions{}, 1, 1, `column "x [furlong]"`},
 		{"px without size", "x [px],y [px],u,v\n0,0,1,1\n", ReadOptions{}, 1, 1, "pixel size"},
 		{"nan coordinate", "x,y,u,v\n0,0,1,1\nNaN,0,1,1\n", ReadOptions{}, 3, 1, "coordinate is missing"},
