@@ -870,7 +870,7 @@ func (c *csvReader) axisSlow(vals []float64, s int, lo, hi float64) (x0, h float
 			}
 		}
 		return 0, 0, 0, c.errf(line(d[worst]), c.cellOf[s]+1,
-			"point off the grid: %s = %g m lies %.2f spacings from the nearest line of the best-fitting grid (spacing %g m from %g m)",
+			"point off the grid: %s = %g m lies %.2f spacings from the nearest line of the best-fitting grid (spacing %.6g m from %.6g m)",
 			name, d[worst], dev/hh, hh, a)
 	}
 	return lo, h, idx + 1, nil
