@@ -271,7 +271,7 @@ func RunBatch(ctx context.Context, s *piv.Series, opt Options, b Batch,
 	}
 	type frameResult struct{ e Entry }
 	wopt := opt
-	wopt.Resume = true // strict windows: a frame's key covers exactly what it reads
+	wopt.strictWindow = true // a frame's input key covers exactly what it may read
 	n, runErr := run(ctx, s, order, wopt,
 		func(ctx context.Context, k int, frames Frames) (frameResult, error) {
 			key, err := keys.key(k)

@@ -47,6 +47,9 @@ type Options struct {
 	Progress io.Writer
 	// Label starts the progress line (usually the command name).
 	Label string
+
+	// strictWindow enforces the halo even when it is 0 (RunBatch sets it).
+	strictWindow bool
 }
 
 // Frames gives a stage access to the frames around the one it processes.
@@ -231,7 +234,7 @@ func run[R any](ctx context.Context, s *piv.Series, order []int, opt Options,
 	// Jobs not yet emitted span at most 2*workers frames (running plus waiting in order), each
 	// reading halo frames either side.
 	cache := newFrameCache(s, 2*workers+2*halo+1, halo)
-	strict := halo > 0 || opt.Resume
+	strict := halo > 0 || opt.strictWindow
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
 	// Cancellation from the caller (a signal) stops new frames from starting, but frames in
