@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"io/fs"
@@ -469,4 +470,31 @@ func FuzzParseManifest(f *testing.F) {
 			t.Fatalf("manifest changed on a round trip")
 		}
 	})
+}
+
+// A batch stage may read only its declared window, so a frame's recorded input digest covers
+// everything its result depends on; a broken manifest stops --resume with its file and line.
+func TestBatchWindowAndBrokenManifest(t *testing.T) {
+	tmp := t.TempDir()
+	s := writeInputs(t, tmp, 5, 2)
+	out := filepath.Join(tmp, "out")
+	os.MkdirAll(out, 0o755)
+	_, err := RunBatch(context.Background(), s, Options{Workers: 1}, testBatch(out, defaultSettings),
+		func(ctx context.Context, k int, fr Frames, o *Output) error {
+			_, err := fr.Frame(min(k+1, fr.Len()-1))
+			if k == fr.Len()-1 {
+				_, err = fr.Frame(k - 1)
+			}
+			return err
+		})
+	if !errors.Is(err, ErrOutsideWindow) {
+		t.Fatalf("halo-0 batch reading a neighbour: %v", err)
+	}
+	if err := os.WriteFile(filepath.Join(out, ManifestName), []byte("{\"format\":\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, err = runTest(t, context.Background(), s, out, Options{Resume: true}, defaultSettings, nil)
+	if err == nil || !strings.Contains(err.Error(), ManifestName+":1:") {
+		t.Fatalf("resume over a broken manifest: %v", err)
+	}
 }
