@@ -60,7 +60,7 @@ func setupDemo(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if *samples < 0 || *samples > 1000 {
 			return usagef("--samples %d must be between 0 and 1000", *samples)
 		}
-		out, err := runJet(context.Background(), e, series, s, run, []string{index}, dir)
+		out, err := runJet(context.Background(), e, series, s, run, []string{index}, func() (string, error) { return dir, nil })
 		if err != nil {
 			return err
 		}

@@ -128,15 +128,19 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if err != nil {
 			return err
 		}
-		dir, err := run.outDir("jet", args)
-		if err != nil {
-			return err
+		var dir string
+		// The output folder is made only once the analysis has succeeded, so a failed run
+		// leaves nothing behind.
+		dirFn := func() (string, error) {
+			var err error
+			dir, err = run.outDir("jet", args)
+			return dir, err
 		}
 		s.title = "Starting-jet budget"
 		if s.label != "" {
 			s.title += ": " + s.label
 		}
-		out, err := runJet(context.Background(), e, series, s, run, args, dir)
+		out, err := runJet(context.Background(), e, series, s, run, args, dirFn)
 		if err != nil {
 			return err
 		}
@@ -182,7 +186,9 @@ type jetOutcome struct {
 	seriesRef  *piv.Series // for the snapshot maps
 }
 
-func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run *runFlags, inputs []string, dir string) (*jetOutcome, error) {
+// runJet analyses the series and writes the outputs into the folder dirFn returns, which it
+// calls only after the analysis succeeded.
+func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run *runFlags, inputs []string, dirFn func() (string, error)) (*jetOutcome, error) {
 	first, err := series.Frame(0)
 	if err != nil {
 		return nil, err
@@ -368,6 +374,10 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 		"The pressure on the exit plane outside the lip (r > outer lip radius) and on the lip face is not measured; route (b) uses the quasi-steady Bernoulli estimate -rho|u|^2/2 there, which leaves out the unsteady term -rho dphi/dt.",
 		"Momentum exchanged beyond the edges of the view (above the top row, downstream of the last column) is not seen by either route.",
 		fmt.Sprintf("Route (a) uncertainties come from %d of the Monte-Carlo replicas (the pressure solve is the costly step).", min(samples, maxPressureSamples)))
+	dir, err := dirFn()
+	if err != nil {
+		return nil, err
+	}
 	if err := writeJetOutputs(dir, out, inputs); err != nil {
 		return nil, err
 	}

@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/wakekit/wakekit/circulation"
+	"github.com/wakekit/wakekit/internal/demo"
 	"github.com/wakekit/wakekit/piv"
 	"github.com/wakekit/wakekit/piv/analytic"
 )
@@ -157,6 +158,20 @@ func TestJetBadInput(t *testing.T) {
 			t.Errorf("%v: exit %d, stderr %q; want %d and %q", c.args, code, stderr, c.code, c.want)
 		}
 	}
+	// A run that fails after reading the data leaves no output folder.
+	index, err := demo.Extract(filepath.Join(dir, "frames"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "never")
+	code, _, stderr := runCapture("jet", index, "--axisymmetric", "--diameter", "0.025", "--pulse", "5,4",
+		"--no-pressure", "--samples", "0", "-q", "--out", out)
+	if code != 2 || !strings.Contains(stderr, "--pulse") {
+		t.Errorf("reversed pulse: exit %d, %q", code, stderr)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("failed run left %s behind", out)
+	}
 }
 
 // lazyHillSeries is a series of n frames of nx x ny nodes of Hill's spherical vortex moving
@@ -212,7 +227,7 @@ func BenchmarkJet(b *testing.B) {
 				}()
 				var out, errb bytes.Buffer
 				e := &env{stdout: &out, stderr: &errb}
-				if _, err := runJet(context.Background(), e, series, s, &runFlags{workers: runtime.NumCPU(), quiet: true}, nil, b.TempDir()); err != nil {
+				if _, err := runJet(context.Background(), e, series, s, &runFlags{workers: runtime.NumCPU(), quiet: true}, nil, func() (string, error) { return b.TempDir(), nil }); err != nil {
 					b.Fatal(err)
 				}
 				close(stop)
