@@ -170,14 +170,21 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	// its three values (rows j−1, j, j+1) sorted, and of its outer two sorted, for u and v.
 	var cu, cv []colKeys
 	var colOK []bool
+	var ku, kv [3][]uint64
 	if o.Radius == 1 && g.NX >= 3 && g.NY >= 3 {
 		cu, cv = make([]colKeys, nx), make([]colKeys, nx)
 		colOK = make([]bool, nx)
+		for r := range ku {
+			ku[r], kv[r] = make([]uint64, nx), make([]uint64, nx)
+		}
+		keyRow(f, 0, ku[0], kv[0])
+		keyRow(f, 1, ku[1], kv[1])
 	}
 	for j := 0; j < g.NY; j++ {
 		fast := colOK != nil && j > 0 && j < g.NY-1
 		if fast {
-			prepareColumns(f, ok, j, cu, cv, colOK)
+			keyRow(f, j+1, ku[(j+1)%3], kv[(j+1)%3])
+			prepareColumns(ok, nx, j, &ku, &kv, cu, cv, colOK)
 		}
 		for i := 0; i < g.NX; i++ {
 			k := j*nx + i
@@ -253,18 +260,29 @@ type colKeys struct {
 	t0, t1, t2, p0, p1 uint64
 }
 
-// prepareColumns fills the column keys of row j and says which columns have all three nodes
-// valid. Each column is sorted once per row and used by the two nodes beside it.
-func prepareColumns(f *Field, ok []bool, j int, cu, cv []colKeys, colOK []bool) {
-	nx := f.Grid.NX
+// prepareColumns fills the column keys of row j from the order keys of rows j−1, j and j+1
+// (ku, kv: three rows in a ring indexed by row mod 3) and says which columns have all three
+// nodes valid. Each column is sorted once per row and used by the two nodes beside it.
+func prepareColumns(ok []bool, nx, j int, ku, kv *[3][]uint64, cu, cv []colKeys, colOK []bool) {
+	ua, ub, uc := ku[(j-1)%3], ku[j%3], ku[(j+1)%3]
+	va, vb, vc := kv[(j-1)%3], kv[j%3], kv[(j+1)%3]
+	oa, ob, oc := ok[(j-1)*nx:j*nx], ok[j*nx:(j+1)*nx], ok[(j+1)*nx:(j+2)*nx]
 	for i := range colOK {
-		a, b, c := (j-1)*nx+i, j*nx+i, (j+1)*nx+i
-		colOK[i] = ok[a] && ok[b] && ok[c]
-		if !colOK[i] {
-			continue
+		colOK[i] = oa[i] && ob[i] && oc[i]
+		if colOK[i] {
+			cu[i] = sortColumn(ua[i], ub[i], uc[i])
+			cv[i] = sortColumn(va[i], vb[i], vc[i])
 		}
-		cu[i] = sortColumn(key(f.U[a]), key(f.U[b]), key(f.U[c]))
-		cv[i] = sortColumn(key(f.V[a]), key(f.V[b]), key(f.V[c]))
+	}
+}
+
+// keyRow stores the order keys of row j's velocities (NaN-free only where valid; the keys of
+// invalid nodes are never used).
+func keyRow(f *Field, j int, ku, kv []uint64) {
+	nx := f.Grid.NX
+	U, V := f.U[j*nx:(j+1)*nx], f.V[j*nx:(j+1)*nx]
+	for i := range ku {
+		ku[i], kv[i] = key(U[i]), key(V[i])
 	}
 }
 
