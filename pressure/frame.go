@@ -84,6 +84,22 @@ func (n Nozzle) Contains(x, y float64) bool {
 	return x <= n.X && r >= n.RIn && r <= n.ROut
 }
 
+// Check verifies that the nozzle wall is well formed and meets the field of grid g: its exit
+// plane within the field's x extent (or at most one spacing upstream of it) and its radial
+// band overlapping the field's rows on at least one side of the axis.
+func (n Nozzle) Check(g piv.Grid) error {
+	if !isFinite(n.X) || !isFinite(n.RIn) || !isFinite(n.ROut) || !isFinite(n.Axis) || !(n.RIn >= 0 && n.ROut > n.RIn) {
+		return fmt.Errorf("nozzle wall x <= %g m, %g <= r <= %g m: need finite values with 0 <= inner < outer radius", n.X, n.RIn, n.ROut)
+	}
+	lo, hi := g.Y0, g.YMax()
+	band := (n.Axis+n.ROut >= lo && n.Axis+n.RIn <= hi) || (n.Axis-n.RIn >= lo && n.Axis-n.ROut <= hi)
+	if n.X < g.X0-g.DX*(1+1e-9) || n.X > g.XMax() || !band {
+		return fmt.Errorf("the nozzle (exit plane x = %g m, wall %g..%g m from y = %g m) lies outside the field (x %g..%g m, y %g..%g m)",
+			n.X, n.RIn, n.ROut, n.Axis, g.X0, g.XMax(), lo, hi)
+	}
+	return nil
+}
+
 // maskedFrames applies a solid shape to every frame read through it (on a copy).
 type maskedFrames struct {
 	Frames
@@ -109,6 +125,15 @@ func Reconstruct(fr Frames, k int, opt FrameOptions) (*FrameResult, error) {
 		return nil, err
 	}
 	if opt.Solid != nil {
+		if n, ok := opt.Solid.(Nozzle); ok {
+			f, err := fr.Frame(k)
+			if err != nil {
+				return nil, err
+			}
+			if err := n.Check(f.Grid); err != nil {
+				return nil, fmt.Errorf("%s: %w", f.Name(), err)
+			}
+		}
 		fr = maskedFrames{fr, opt.Solid}
 	}
 	f, ax, ay, err := Acceleration(fr, k, opt.Accel)

@@ -205,6 +205,19 @@ func TestBadInput(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "outside the field") {
 		t.Errorf("exit outside the field: error %v", err)
 	}
+	// A nozzle wall whose exit plane lies beyond the field.
+	_, err = Reconstruct(s, 1, FrameOptions{Fluid: Water20, Solid: Nozzle{X: 1, RIn: 0.01, ROut: 0.02}})
+	if err == nil || !strings.Contains(err.Error(), "outside the field") {
+		t.Errorf("nozzle outside the field: error %v", err)
+	}
+	// A nozzle wall inside the field is masked solid and the solve goes around it.
+	r, err := Reconstruct(s, 1, FrameOptions{Fluid: Water20, Solid: Nozzle{X: 0.02, RIn: 0.02, ROut: 0.03}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Solver != Multigrid || !math.IsNaN(r.P[g.Index(0, 5)]) || math.IsNaN(r.P[g.Index(10, 5)]) {
+		t.Errorf("nozzle mask: solver %v, p at the wall %g, beside it %g", r.Solver, r.P[g.Index(0, 5)], r.P[g.Index(10, 5)])
+	}
 	if _, err := ParseEdges("right,north"); err == nil {
 		t.Error("unknown edge accepted")
 	}

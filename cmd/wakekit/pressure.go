@@ -302,9 +302,8 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 			}
 		}
 		if n, ok := fo.Solid.(pressure.Nozzle); ok {
-			if c := piv.Mask(first.Grid, n); !pressureAny(c) && !pressureNozzleNear(first.Grid, n) {
-				return fmt.Errorf("%s: the nozzle (x <= %g m, %g <= |y - %g| <= %g m) lies outside the field (%v)",
-					first.Name(), n.X, n.RIn, n.Axis, n.ROut, first.Grid)
+			if err := n.Check(first.Grid); err != nil {
+				return fmt.Errorf("%s: %v", first.Name(), err)
 			}
 		}
 		popt, err := rf.pipelineOptions(e, "pressure")
@@ -354,26 +353,6 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 }
 
 func pressureFinite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
-
-func pressureAny(m []bool) bool {
-	for _, v := range m {
-		if v {
-			return true
-		}
-	}
-	return false
-}
-
-// pressureNozzleNear reports whether the nozzle's exit lies within one spacing upstream of the
-// field and its radial extent overlaps the field's rows: a wall that ends just before the first
-// column is legitimate even though it marks no node.
-func pressureNozzleNear(g piv.Grid, n pressure.Nozzle) bool {
-	if n.X < g.X0-g.DX || n.X > g.XMax() {
-		return false
-	}
-	lo, hi := g.Y0, g.YMax()
-	return (n.Axis+n.ROut >= lo && n.Axis+n.RIn <= hi) || (n.Axis-n.RIn >= lo && n.Axis-n.ROut <= hi)
-}
 
 func pressureExitHeader(planar bool) string {
 	if planar {
