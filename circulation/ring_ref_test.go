@@ -71,7 +71,7 @@ func TestReferenceRingTrack(t *testing.T) {
 			continue
 		}
 		k := int(math.Round(tt/0.025)) - 1 // frame_k is at t = 0.025 (k + 1)
-		f, err := piv.ReadFile(filepath.Join(ringRefDir, "frames", "frame_"+strconv.Itoa(1000+k)[1:]+".csv"), opt)
+		f, err := piv.ReadFile(filepath.Join(ringRefDir, "frames", "frame_"+strconv.Itoa(1000 + k)[1:]+".csv"), opt)
 		if err != nil {
 			t.Fatal(err)
 		}
