@@ -103,10 +103,24 @@ func Fill(f *Field, opt FillOptions) (FillCounts, error) {
 	}
 	switch opt.Method {
 	case FillLaplace:
-		s := newLaplaceSolver(f, label)
+		s := newLaplaceSolver(f)
+		// The nodes of each gap, grouped by gap (counting sort), so that each solve touches
+		// only its own gap.
+		start := make([]int, len(sizes)+1)
+		for id, n := range sizes {
+			start[id+1] = start[id] + n
+		}
+		members := make([]int, start[len(sizes)])
+		next := append([]int(nil), start[:len(sizes)]...)
+		for k, l := range label {
+			if l >= 0 {
+				members[next[l]] = k
+				next[l]++
+			}
+		}
 		for id := range sizes {
 			if eligible[id] {
-				s.solve(int32(id), tol)
+				s.solve(members[start[id]:start[id+1]], tol)
 			}
 		}
 	case FillMedian:
@@ -167,19 +181,19 @@ func gaps(f *Field) ([]int32, []int) {
 // valid neighbour — is symmetric positive definite whenever the gap touches a valid vector.
 type laplaceSolver struct {
 	f     *Field
-	label []int32
 	local []int32 // node → index within the current gap
-	nodes []int
+	nodes []int   // the current gap's nodes
 	// per-gap work vectors
 	diag, b, x, r, z, p, ap []float64
+	u, v                    []float64 // the solutions for u and v
 }
 
-func newLaplaceSolver(f *Field, label []int32) *laplaceSolver {
+func newLaplaceSolver(f *Field) *laplaceSolver {
 	local := make([]int32, f.Grid.N())
 	for k := range local {
 		local[k] = -1
 	}
-	return &laplaceSolver{f: f, label: label, local: local}
+	return &laplaceSolver{f: f, local: local}
 }
 
 // neighbours returns the 4-neighbours of node k inside the grid (−1 where there is none).
@@ -201,14 +215,12 @@ func neighbours(g Grid, k int) [4]int {
 	return nb
 }
 
-func (s *laplaceSolver) solve(id int32, tol float64) {
+// solve fills the gap made of the given nodes.
+func (s *laplaceSolver) solve(nodes []int, tol float64) {
 	f, g := s.f, s.f.Grid
-	s.nodes = s.nodes[:0]
-	for k, l := range s.label {
-		if l == id {
-			s.local[k] = int32(len(s.nodes))
-			s.nodes = append(s.nodes, k)
-		}
+	s.nodes = nodes
+	for a, k := range nodes {
+		s.local[k] = int32(a)
 	}
 	defer func() {
 		for _, k := range s.nodes {
@@ -242,8 +254,8 @@ func (s *laplaceSolver) solve(id int32, tol float64) {
 	if !dirichlet {
 		return // no valid vector around the gap: nothing to fill it from
 	}
-	u := make([]float64, n)
-	v := make([]float64, n)
+	s.u, s.v = grow(s.u), grow(s.v)
+	u, v := s.u, s.v
 	okU := s.cg(f.U, u, tol)
 	okV := s.cg(f.V, v, tol)
 	if !okU || !okV {

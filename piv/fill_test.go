@@ -220,3 +220,29 @@ func TestCleanPass(t *testing.T) {
 		t.Fatalf("sum %+v", total)
 	}
 }
+
+func BenchmarkFillLaplace1024(b *testing.B) {
+	// Many small gaps (5% of the nodes rejected at random) on a 1024x1024 field: the cost
+	// must stay proportional to the nodes, not to nodes × gaps.
+	g := Grid{NX: 1024, NY: 1024, DX: 1, DY: 1}
+	f := NewField(g)
+	for k := range f.U {
+		i, j := g.IJ(k)
+		f.Set(k, math.Sin(float64(i)/30), math.Cos(float64(j)/20))
+	}
+	for k := 7; k < g.N(); k += 20 {
+		reject(f, k, RejectedMedian)
+	}
+	work := f.Clone()
+	for b.Loop() {
+		b.StopTimer()
+		copy(work.U, f.U)
+		copy(work.V, f.V)
+		copy(work.Status, f.Status)
+		b.StartTimer()
+		if _, err := Fill(work, FillOptions{MaxGap: 25}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(g.N()), "ns/node")
+}
