@@ -137,7 +137,7 @@ type BudgetPulse struct {
 	RingGamma       float64 // leading-ring circulation at the window end [m^2/s]
 	TrailGamma      float64 // trailing-jet circulation at the window end [m^2/s]
 	Residual        float64 // FluxCirculation - (GammaFinal - Gamma at start): lost or out of view [m^2/s]
-	FormationNumber float64 // L/D at which the delivered circulation reaches RingGamma
+	FormationNumber float64 // L/D at which the circulation in view reaches the formed ring's (its largest after the pulse)
 	PinchOff        float64 // time of that formation number [s]
 	// Impulse and thrust budget.
 	ImpulseEnd        float64 // impulse in view gained from the pulse start to its end [N s]
@@ -220,8 +220,16 @@ func BudgetPulses(s BudgetSeries, pulses []Pulse, c ExitConfig, axisymmetric boo
 				tt = append(tt, t)
 			}
 		}
+		// The ring's circulation once formed: its largest value after the pulse end (viscous
+		// cross-diffusion lowers it later, which would understate the formation number).
+		ringFormed := nan
+		for k, t := range s.T {
+			if t >= e && t <= w && !math.IsNaN(s.RingGamma[k]) && !(s.RingGamma[k] <= ringFormed) {
+				ringFormed = s.RingGamma[k]
+			}
+		}
 		b.FormationNumber, b.PinchOff = nan, nan
-		if f, ok := FormationNumber(ts, dv, b.RingGamma-g0); ok {
+		if f, ok := FormationNumber(ts, dv, ringFormed-g0); ok {
 			b.FormationNumber = f
 			b.PinchOff = at(ts, tt, f)
 		}
