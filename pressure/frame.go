@@ -100,6 +100,33 @@ func (n Nozzle) Check(g piv.Grid) error {
 	return nil
 }
 
+// NodeMask is a solid mask given node by node on a grid (for instance read from a mask file
+// whose status column marks the solid nodes). It implements piv.Shape: a point is inside when
+// the nearest node of Grid, within half a spacing, is marked.
+type NodeMask struct {
+	Grid  piv.Grid
+	Solid []bool
+}
+
+// MaskFromField returns the mask of the Solid nodes of f.
+func MaskFromField(f *piv.Field) NodeMask {
+	m := NodeMask{Grid: f.Grid, Solid: make([]bool, f.Grid.N())}
+	for k, st := range f.Status {
+		m.Solid[k] = st.Kind() == piv.Solid
+	}
+	return m
+}
+
+// Contains implements piv.Shape.
+func (m NodeMask) Contains(x, y float64) bool {
+	fi, fj := m.Grid.Frac(x, y)
+	i, j := int(math.Round(fi)), int(math.Round(fj))
+	if !m.Grid.In(i, j) || math.Abs(fi-float64(i)) > 0.5+1e-9 || math.Abs(fj-float64(j)) > 0.5+1e-9 {
+		return false
+	}
+	return m.Solid[m.Grid.Index(i, j)]
+}
+
 // maskedFrames applies a solid shape to every frame read through it (on a copy).
 type maskedFrames struct {
 	Frames

@@ -54,7 +54,8 @@ Nozzle exit: --exit X and --nozzle-radius R give per-frame exit forces: momentum
 depth, over the slot of half-width R). The exit plane need not be a grid column: the pressure
 of the nearest column is carried to X with the known gradient and the velocity extrapolated
 from the two nearest columns (the distance is reported). --nozzle X,R_IN,R_OUT marks the
-nozzle wall (x <= X, R_IN <= |y - axis| <= R_OUT) as solid in every frame. --rest-at T says the
+nozzle wall (x <= X, R_IN <= |y - axis| <= R_OUT) as solid in every frame; --mask FILE does
+the same for the nodes a file on the same grid marks solid in its status column. --rest-at T says the
 fluid was at rest at time T before the first frame (a start from rest), so that the first
 frame gets a central time difference.
 
@@ -93,6 +94,7 @@ type pressureSettings struct {
 	RestAt     *piv.JSONFloat  `json:"rest_at_s,omitempty"`
 	Exit       []piv.JSONFloat `json:"exit,omitempty"`   // X, R, axis
 	Nozzle     []piv.JSONFloat `json:"nozzle,omitempty"` // X, R_in, R_out
+	Mask       string          `json:"mask_sha256,omitempty"`
 	Formats    []string        `json:"formats"`
 	Read       piv.ReadOptions `json:"read"`
 	Geometry   string          `json:"geometry"`
@@ -163,6 +165,7 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 	exitX := fs.String("exit", "", "x of the nozzle exit plane [m] (with --nozzle-radius)")
 	radius := fs.Float64("nozzle-radius", 0, "nozzle inner radius (slot half-width) [m]")
 	nozzle := fs.String("nozzle", "", "X,R_IN,R_OUT [m]: mark the nozzle wall solid")
+	maskFile := fs.String("mask", "", "file on the frames' grid whose status column marks solid nodes (status \"solid\")")
 	format := fs.String("format", "csv", "output formats per frame, comma-separated: csv, vtk, png")
 	rf := addRunFlags(fs)
 	return func(e *env, args []string) error {
@@ -305,6 +308,34 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 			if err := n.Check(first.Grid); err != nil {
 				return fmt.Errorf("%s: %v", first.Name(), err)
 			}
+		}
+		if *maskFile != "" {
+			if fo.Solid != nil {
+				return usagef("--mask and --nozzle exclude each other")
+			}
+			mf, err := piv.ReadFile(*maskFile, opt)
+			if err != nil {
+				return err
+			}
+			if !mf.Grid.Same(first.Grid) {
+				return fmt.Errorf("%s: mask grid %v differs from the frames' grid %v", *maskFile, mf.Grid, first.Grid)
+			}
+			m := pressure.MaskFromField(mf)
+			solid := 0
+			for _, v := range m.Solid {
+				if v {
+					solid++
+				}
+			}
+			if solid == 0 {
+				return fmt.Errorf("%s: no node has the status solid", *maskFile)
+			}
+			fo.Solid = m
+			digest, err := pipeline.FileDigest(*maskFile)
+			if err != nil {
+				return err
+			}
+			set.Mask = digest
 		}
 		popt, err := rf.pipelineOptions(e, "pressure")
 		if err != nil {

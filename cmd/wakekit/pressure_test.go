@@ -177,3 +177,61 @@ func mkdir(t *testing.T, parent, name string) string {
 	}
 	return d
 }
+
+// TestPressureMask marks a block of nodes solid through a mask file: the output has no
+// pressure there and the rest is still within 1% of the exact Taylor–Green pressure range.
+func TestPressureMask(t *testing.T) {
+	dir := t.TempDir()
+	paths := writePressureSeries(t, dir, 3, 0.002, nil)
+	mf, err := piv.ReadFile(paths[0], piv.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for j := 10; j < 20; j++ {
+		for i := 20; i < 26; i++ {
+			mf.Status[mf.Grid.Index(i, j)] = piv.Solid
+		}
+	}
+	mf.Normalize()
+	mask := filepath.Join(dir, "mask.csv")
+	if err := piv.WriteCSV(mask, mf); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	code, stdout, stderr := runCapture(append([]string{"pressure", "--dt", "0.002", "--rho", "998.2", "--nu", "1e-4",
+		"--mask", mask, "--out", out, "-q"}, paths...)...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "multigrid") {
+		t.Errorf("a masked field should use the multigrid solver:\n%s", stdout)
+	}
+	cols := readColumns(t, filepath.Join(out, "frame_0001.csv"))
+	p, x, y := cols["p [Pa]"], cols["x [m]"], cols["y [m]"]
+	masked := 0
+	var diffs []float64
+	for k := range p {
+		if math.IsNaN(p[k]) {
+			masked++
+			continue
+		}
+		diffs = append(diffs, p[k]-pressureTG.Pressure(x[k], y[k], 0.002))
+	}
+	if masked != 60 {
+		t.Errorf("%d nodes without pressure, want the 60 masked ones", masked)
+	}
+	mean := 0.0
+	for _, d := range diffs {
+		mean += d / float64(len(diffs))
+	}
+	worst := 0.0
+	for _, d := range diffs {
+		worst = math.Max(worst, math.Abs(d-mean))
+	}
+	// Scale: ρU², the full range of the Taylor–Green pressure (ρU²/4)(cos 2kx + cos 2ky).
+	rng := pressureTG.Rho * pressureTG.U * pressureTG.U
+	t.Logf("masked: max error %.3g%% of ρU²", 100*worst/rng)
+	if worst > 0.01*rng {
+		t.Errorf("masked: error %.3g%% of ρU²", 100*worst/rng)
+	}
+}
