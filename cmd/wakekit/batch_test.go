@@ -8,47 +8,22 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 
 	"github.com/spf13/pflag"
 	"github.com/wakekit/wakekit/internal/pipeline"
 )
 
-var (
-	buildOnce sync.Once
-	builtBin  string
-	buildErr  error
-)
-
-// buildWakekit builds the wakekit program once per test run, for tests that need a real
-// process (signals, a cluster scheduler).
+// buildWakekit builds the wakekit program into the test's temporary folder, for tests that
+// need a real process (signals, a cluster scheduler).
 func buildWakekit(t testing.TB) string {
 	t.Helper()
-	buildOnce.Do(func() {
-		dir, err := os.MkdirTemp("", "wakekit-bin")
-		if err != nil {
-			buildErr = err
-			return
-		}
-		builtBin = filepath.Join(dir, "wakekit")
-		out, err := exec.Command("go", "build", "-o", builtBin, ".").CombinedOutput()
-		if err != nil {
-			buildErr = &buildError{err, string(out)}
-		}
-	})
-	if buildErr != nil {
-		t.Fatalf("building wakekit: %v", buildErr)
+	bin := filepath.Join(t.TempDir(), "wakekit")
+	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
+		t.Fatalf("building wakekit: %v\n%s", err, out)
 	}
-	return builtBin
+	return bin
 }
-
-type buildError struct {
-	err error
-	out string
-}
-
-func (e *buildError) Error() string { return e.err.Error() + "\n" + e.out }
 
 // treeFiles returns the files under dir (relative names) with their content.
 func treeFiles(t testing.TB, dir string) map[string][]byte {

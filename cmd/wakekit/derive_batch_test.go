@@ -97,9 +97,9 @@ func TestDeriveSIGINTThenResume(t *testing.T) {
 	requireDerive(t)
 	bin := buildWakekit(t)
 	tmp := t.TempDir()
-	const frames = 60
-	index := synthRun(t, filepath.Join(tmp, "run"), frames, "96x96")
-	args := []string{"derive", index, "--quantities", "vorticity,q,lambda2,swirl,gamma1,gamma2", "--workers", "2", "--quiet"}
+	const frames = 48
+	index := synthRun(t, filepath.Join(tmp, "run"), frames, "64x64")
+	args := []string{"derive", index, "--quantities", "vorticity,q,swirl,gamma2", "--workers", "2", "--quiet"}
 	ref := filepath.Join(tmp, "ref")
 	if out, err := exec.Command(bin, append(args, "--out", ref)...).CombinedOutput(); err != nil {
 		t.Fatalf("reference run: %v\n%s", err, out)
@@ -189,14 +189,14 @@ func memPeak(f func()) (peak uint64) {
 // Streaming: the memory a derive run needs is set by the workers and the frame size, not by
 // the number of frames, and the frames of a long run are identical to the same frames derived
 // one by one. The acceptance size (2000 frames of 256x256) takes minutes and 18 GB of output on
-// a 2-core machine, so it runs with WAKEKIT_LARGE=1; by default the test runs 500 small frames
-// (memory independent of the count) and 12 frames of 256x256 (memory for the frame size).
+// a 2-core machine, so it runs with WAKEKIT_LARGE=1; by default the test runs 400 small frames
+// (memory independent of the count) and 8 frames of 256x256 (memory for the frame size).
 func TestDeriveStreamingMemory(t *testing.T) {
 	requireDerive(t)
 	cases := []struct {
 		frames int
 		grid   string
-	}{{500, "16x16"}, {12, "256x256"}}
+	}{{400, "16x16"}, {8, "256x256"}}
 	if os.Getenv("WAKEKIT_LARGE") == "1" {
 		cases = []struct {
 			frames int
