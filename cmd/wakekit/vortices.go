@@ -39,9 +39,14 @@ local least-squares line. With --axisymmetric, cores above the axis are read as 
 and their circulation, ring radius, impulse radius, impulse and kinetic energy are written
 with the speed from the track beside Saffman's (1970) viscous-core prediction.
 
-Writes cores.csv, tracks.csv, track_summary.csv (and rings.csv with --axisymmetric) in the
-output folder; with --format png also maps/vorticity_NNNN.png with cores and track paths.
-Tracking needs at least 2 frames.
+For planar data, the strongest cores of each sign are read as a vortex pair: circulations,
+centroids, separation b, impulse per unit depth rho int (y w, -x w) dA and the point-vortex
+pair speed Gamma/(2 pi b). Every frame also gets the circulation and impulse of the whole
+field of view (per unit depth for planar data).
+
+Writes cores.csv, tracks.csv, track_summary.csv, frames.csv and rings.csv (--axisymmetric)
+or pairs.csv (planar) in the output folder; with --format png also maps/vorticity_NNNN.png
+with cores and track paths. Tracking needs at least 2 frames.
 
 Examples:
   wakekit vortices tank2/run3/ --out run3-vortices
@@ -141,6 +146,11 @@ type vortexFrame struct {
 	name  string
 	cores []circulation.Core
 	rings []*circulation.Ring // per core; nil below the axis or for planar data
+	// window holds the circulation and impulse of the whole field of view; pair the pair
+	// properties of the strongest cores of each sign (planar data with both signs only).
+	window  circulation.AreaResult
+	impulse circulation.ImpulseResult
+	pair    *circulation.Pair
 }
 
 func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings, dir string) error {
@@ -170,6 +180,36 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 					return vortexFrame{}, err
 				}
 				vf.rings[c] = &ring
+			}
+		}
+		all := circulation.AllNodes(f.Grid)
+		if vf.window, err = circulation.Area(omega, all, circulation.AreaOptions{MaxMissingShare: 1}); err != nil {
+			return vortexFrame{}, fmt.Errorf("%s: %v", f.Name(), err)
+		}
+		if vf.impulse, err = circulation.Impulse(omega, f.Grid, f.Geometry, st.rho, all); err != nil {
+			return vortexFrame{}, fmt.Errorf("%s: %v", f.Name(), err)
+		}
+		if !f.Geometry.Axisymmetric {
+			// Cores are sorted by decreasing |Γ|: the first of each sign are the strongest.
+			pos, neg := -1, -1
+			for c := range cores {
+				if cores[c].Sign > 0 && pos < 0 {
+					pos = c
+				}
+				if cores[c].Sign < 0 && neg < 0 {
+					neg = c
+				}
+			}
+			if pos >= 0 && neg >= 0 {
+				reg, err := circulation.NodeRegion(f.Grid, append(append([]int(nil), cores[pos].Nodes...), cores[neg].Nodes...))
+				if err != nil {
+					return vortexFrame{}, err
+				}
+				p, err := circulation.PairOf(omega, reg, st.rho)
+				if err != nil {
+					return vortexFrame{}, err
+				}
+				vf.pair = &p
 			}
 		}
 		if st.png {
@@ -273,6 +313,47 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 	})
 	if err != nil {
 		return err
+	}
+	err = piv.WriteFileAtomic(filepath.Join(dir, "frames.csv"), func(w io.Writer) error {
+		unit := "N s/m"
+		if axisym {
+			unit = "N s"
+		}
+		if _, err := fmt.Fprintf(w, "frame,time [s],cores,window_gamma [m^2/s],window_missing_share,window_impulse_x [%s],window_impulse_y [%s]\n", unit, unit); err != nil {
+			return err
+		}
+		for k, vf := range frames {
+			if _, err := fmt.Fprintf(w, "%d,%s,%d,%s,%s,%s,%s\n", k, cnum(vf.time), len(vf.cores), cnum(vf.window.Gamma),
+				cnum(vf.window.MissingShare), cnum(vf.impulse.X), cnum(vf.impulse.Y)); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	if !axisym {
+		err = piv.WriteFileAtomic(filepath.Join(dir, "pairs.csv"), func(w io.Writer) error {
+			if _, err := fmt.Fprintln(w, "frame,time [s],gamma_pos [m^2/s],gamma_neg [m^2/s],x_pos [m],y_pos [m],x_neg [m],y_neg [m],separation [m],speed_point_pair [m/s],impulse_x [N s/m],impulse_y [N s/m]"); err != nil {
+				return err
+			}
+			for k, vf := range frames {
+				p := vf.pair
+				if p == nil {
+					continue
+				}
+				if _, err := fmt.Fprintf(w, "%d,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), cnum(p.GammaPos), cnum(p.GammaNeg),
+					cnum(p.XPos), cnum(p.YPos), cnum(p.XNeg), cnum(p.YNeg), cnum(p.Separation), cnum(p.Speed),
+					cnum(p.ImpulseX), cnum(p.ImpulseY)); err != nil {
+					return err
+				}
+			}
+			return nil
+		})
+		if err != nil {
+			return err
+		}
 	}
 	if axisym {
 		err = piv.WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {

@@ -48,6 +48,21 @@ func TestVorticesCommandPair(t *testing.T) {
 	if cores := readTable(t, filepath.Join(out, "cores.csv")); len(cores) != 12 {
 		t.Errorf("%d core rows, want 12", len(cores))
 	}
+	// Pair separation 16 mm within 2 % (centroids of the criterion regions); the impulse per
+	// unit depth of the whole window is ρΓb along +x (Saffman 1992 §3.2; +Γ above, -Γ below)
+	// within 2 % (the window holds nearly all the vorticity; the package tests check the rule).
+	pairs := readTable(t, filepath.Join(out, "pairs.csv"))
+	if len(pairs) != 6 {
+		t.Fatalf("%d pair rows, want 6", len(pairs))
+	}
+	for _, p := range pairs {
+		if b := cell(t, p, "separation"); math.Abs(b/0.016-1) > 0.02 {
+			t.Errorf("frame %s: separation %.4g, want 0.016", p["frame"], b)
+		}
+	}
+	if fr := readTable(t, filepath.Join(out, "frames.csv")); len(fr) != 6 || math.Abs(cell(t, fr[0], "window_impulse_x")/(1000*1e-3*0.016)-1) > 0.02 {
+		t.Errorf("frames.csv: %v", fr)
+	}
 	for k := 0; k < 6; k++ {
 		if st, err := os.Stat(filepath.Join(out, "maps", "vorticity_000"+string(rune('0'+k))+".png")); err != nil || st.Size() == 0 {
 			t.Errorf("map of frame %d: %v", k, err)
