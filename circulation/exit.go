@@ -28,12 +28,14 @@ func (c ExitConfig) Validate() error {
 		return fmt.Errorf("nozzle diameter %g m must be positive", c.Diameter)
 	case math.IsNaN(c.X) || math.IsInf(c.X, 0):
 		return fmt.Errorf("exit plane x = %g must be finite", c.X)
+	case math.IsNaN(c.LipOuter) || math.IsInf(c.LipOuter, 0):
+		return fmt.Errorf("outer lip radius %g m must be finite", c.LipOuter)
 	case c.LipOuter != 0 && c.LipOuter < c.Diameter/2:
 		return fmt.Errorf("outer lip radius %g m is smaller than the inner radius %g m", c.LipOuter, c.Diameter/2)
-	case !(c.Rho > 0):
-		return fmt.Errorf("density %g kg/m^3 must be positive", c.Rho)
-	case !(c.Nu > 0):
-		return fmt.Errorf("kinematic viscosity %g m^2/s must be positive", c.Nu)
+	case !(c.Rho > 0) || math.IsInf(c.Rho, 0):
+		return fmt.Errorf("density %g kg/m^3 must be positive and finite", c.Rho)
+	case !(c.Nu > 0) || math.IsInf(c.Nu, 0):
+		return fmt.Errorf("kinematic viscosity %g m^2/s must be positive and finite", c.Nu)
 	}
 	return nil
 }
