@@ -2,6 +2,7 @@ package pressure
 
 import (
 	"math"
+	"runtime"
 	"testing"
 
 	"github.com/wakekit/wakekit/piv"
@@ -28,6 +29,8 @@ func benchProblem(n int, masked bool) (piv.Grid, []float64, []float64) {
 func benchSolve(b *testing.B, n int, masked bool, opt Options) {
 	g, gx, gy := benchProblem(n, masked)
 	b.ReportAllocs()
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
 	b.ResetTimer()
 	var res *Result
 	for it := 0; it < b.N; it++ {
@@ -37,7 +40,11 @@ func benchSolve(b *testing.B, n int, masked bool, opt Options) {
 			b.Fatal(err)
 		}
 	}
+	b.StopTimer()
+	runtime.ReadMemStats(&after)
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(g.N()), "ns/node")
+	// Bytes allocated per node and solve: a constant (memory O(nodes)).
+	b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(b.N)/float64(g.N()), "B/node")
 	b.ReportMetric(float64(res.Iterations), "iterations")
 }
 
@@ -58,6 +65,12 @@ func BenchmarkMultigridMasked1024(b *testing.B) {
 // BenchmarkMultigridMaskedNeumann1024 is the same with Neumann conditions everywhere.
 func BenchmarkMultigridMaskedNeumann1024(b *testing.B) {
 	benchSolve(b, 1024, true, Options{Solver: Multigrid, Tol: 1e-8})
+}
+
+// BenchmarkMultigridMasked256 is the masked problem on 256x256, to show the cost per node
+// stays flat as the grid grows.
+func BenchmarkMultigridMasked256(b *testing.B) {
+	benchSolve(b, 256, true, Options{Solver: Multigrid, Tol: 1e-8, Dirichlet: Right | Top})
 }
 
 // BenchmarkPaths1024 is the multi-path integration on the masked grid.
