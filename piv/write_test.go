@@ -187,6 +187,30 @@ func TestRoundTripVTK(t *testing.T) {
 			t.Fatalf("node %d differs", k)
 		}
 	}
+	// CSV -> Field -> VTK: the VTK arrays hold exactly the numbers of the CSV text, as the Go
+	// standard library's strconv reads them.
+	var text bytes.Buffer
+	if err := EncodeCSV(&text, f); err != nil {
+		t.Fatal(err)
+	}
+	fromCSV, _, err := ReadCSV(bytes.NewReader(text.Bytes()), "f.csv", 0, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf2 bytes.Buffer
+	if err := EncodeVTK(&buf2, fromCSV); err != nil {
+		t.Fatal(err)
+	}
+	_, _, _, arrays2 := readVTK(t, buf2.Bytes())
+	rows := strings.Split(strings.TrimSpace(text.String()), "\n")[1:]
+	for k, row := range rows {
+		cells := strings.Split(row, ",")
+		u, _ := strconv.ParseFloat(cells[2], 64)
+		v, _ := strconv.ParseFloat(cells[3], 64)
+		if !sameBits(arrays2["velocity"][3*k], u) || !sameBits(arrays2["velocity"][3*k+1], v) {
+			t.Fatalf("row %d: VTK %v %v, CSV text %q %q", k, arrays2["velocity"][3*k], arrays2["velocity"][3*k+1], cells[2], cells[3])
+		}
+	}
 	// The file on disk is the same bytes.
 	p := filepath.Join(t.TempDir(), "f.vtk")
 	if err := WriteVTK(p, f, omega); err != nil {
