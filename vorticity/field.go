@@ -6,15 +6,32 @@ import (
 	"github.com/wakekit/wakekit/piv"
 )
 
-// consistent reports whether node k of a field has values that agree with its status: an
-// unusable status with both components NaN, or a usable status with both components numbers
-// or both NaN (piv.Field.Normalize leaves every node so).
+// consistent reports whether a node's values agree with its status: an unusable status with
+// both components NaN, or a usable status with both components numbers (piv.Field.Normalize
+// leaves every node so).
 func consistent(st piv.Status, u, v float64) bool {
 	un, vn := u != u, v != v
 	if !st.Valid() {
 		return un && vn
 	}
-	return un == vn
+	return !un && !vn
+}
+
+// consistentAround reports whether node k at (i, j) and its four neighbours are consistent.
+// The fast loops check only the centre's status and whether the stencil produced a NaN; a
+// usable-status node with NaN values makes its neighbours' stencils NaN, so they take the
+// fallback path, which calls this and finds it.
+func consistentAround(stat []piv.Status, u, v []float64, k, i, j, nx, ny int) bool {
+	if !consistent(stat[k], u[k], v[k]) {
+		return false
+	}
+	if i > 0 && !consistent(stat[k-1], u[k-1], v[k-1]) || i < nx-1 && !consistent(stat[k+1], u[k+1], v[k+1]) {
+		return false
+	}
+	if j > 0 && !consistent(stat[k-nx], u[k-nx], v[k-nx]) || j < ny-1 && !consistent(stat[k+nx], u[k+nx], v[k+nx]) {
+		return false
+	}
+	return true
 }
 
 // masked returns copies of the field's components with NaN at every node that is not usable

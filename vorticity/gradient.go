@@ -57,10 +57,10 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 	h := scheme.Halo()
 	dudx, dudy, dvdx, dvdy, sten := g.DUDX, g.DUDY, g.DVDX, g.DVDY, g.Stencil
 	slow := func(k, i, j int) bool {
-		if !consistent(stat[k], u[k], v[k]) {
+		if !consistentAround(stat, u, v, k, i, j, nx, ny) {
 			return false
 		}
-		if !stat[k].Valid() || u[k] != u[k] {
+		if !stat[k].Valid() {
 			nan := math.NaN()
 			dudx[k], dudy[k], dvdx[k], dvdy[k], sten[k] = nan, nan, nan, nan, 0
 			return true
@@ -89,8 +89,8 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 			}
 		}
 		lo, hi := row+h, row+nx-h
-		// A NaN anywhere in the stencils or at the centre, or an unusable status at the
-		// centre, sends the node to the fallback path.
+		// A NaN anywhere in the stencils, or an unusable status at the centre, sends the node to
+		// the fallback path (which also checks the centre's values; see consistentAround).
 		switch scheme {
 		case Richardson:
 			cx, cy := hx/12, hy/12
@@ -99,7 +99,7 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 				b := (u[k-2*nx] - 8*u[k-nx] + 8*u[k+nx] - u[k+2*nx]) * cy
 				c := (v[k-2] - 8*v[k-1] + 8*v[k+1] - v[k+2]) * cx
 				d := (v[k-2*nx] - 8*v[k-nx] + 8*v[k+nx] - v[k+2*nx]) * cy
-				if t := a + b + c + d + u[k] + v[k]; t != t || !stat[k].Valid() {
+				if t := a + b + c + d; t != t || !stat[k].Valid() {
 					if !slow(k, k-row, j) {
 						return false
 					}
@@ -114,7 +114,7 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 				b := (2*(u[k+2*nx]-u[k-2*nx]) + u[k+nx] - u[k-nx]) * cy
 				c := (2*(v[k+2]-v[k-2]) + v[k+1] - v[k-1]) * cx
 				d := (2*(v[k+2*nx]-v[k-2*nx]) + v[k+nx] - v[k-nx]) * cy
-				if t := a + b + c + d + u[k] + v[k]; t != t || !stat[k].Valid() {
+				if t := a + b + c + d; t != t || !stat[k].Valid() {
 					if !slow(k, k-row, j) {
 						return false
 					}
@@ -129,7 +129,7 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 				b := (u[k+nx+1] + 2*u[k+nx] + u[k+nx-1] - u[k-nx+1] - 2*u[k-nx] - u[k-nx-1]) * cy
 				c := (v[k+nx+1] + 2*v[k+1] + v[k-nx+1] - v[k+nx-1] - 2*v[k-1] - v[k-nx-1]) * cx
 				d := (v[k+nx+1] + 2*v[k+nx] + v[k+nx-1] - v[k-nx+1] - 2*v[k-nx] - v[k-nx-1]) * cy
-				if t := a + b + c + d + u[k] + v[k]; t != t || !stat[k].Valid() {
+				if t := a + b + c + d; t != t || !stat[k].Valid() {
 					if !slow(k, k-row, j) {
 						return false
 					}
@@ -152,7 +152,7 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 				b := (un[p] - us[p]) * cy
 				c := (vr[p+2] - vr[p]) * cx
 				d := (vn[p] - vs[p]) * cy
-				if t := a + b + c + d + ur[p+1] + vr[p+1]; t != t || !sc[p].Valid() {
+				if t := a + b + c + d; t != t || !sc[p].Valid() {
 					if !slow(lo+p, lo+p-row, j) {
 						return false
 					}

@@ -189,3 +189,30 @@ func TestSmallGrids(t *testing.T) {
 		}
 	}
 }
+
+// TestUsableStatusWithNaN checks nodes whose status says usable but whose velocity is NaN (a
+// field built by hand and never normalized): one component NaN, or both. Every output must be
+// NaN there and equal, bit for bit, to the outputs for the normalized field.
+func TestUsableStatusWithNaN(t *testing.T) {
+	g := squareGrid(24, 0.0005)
+	f := analytic.Sample(lambOseen, g, 0)
+	f.U[g.Index(10, 10)] = math.NaN()
+	f.V[g.Index(5, 17)] = math.NaN()
+	f.U[g.Index(15, 6)], f.V[g.Index(15, 6)] = math.NaN(), math.NaN()
+	f.U[g.Index(0, 9)] = math.NaN() // on the edge
+	n := f.Clone()
+	n.Normalize()
+	for _, sc := range Schemes {
+		a, b := allOutputs(f, sc), allOutputs(n, sc)
+		for name, x := range a {
+			for k := range x {
+				if !(x[k] == b[name][k] || math.IsNaN(x[k]) && math.IsNaN(b[name][k])) {
+					t.Fatalf("%s %s: node %d: %g unnormalized, %g normalized", sc, name, k, x[k], b[name][k])
+				}
+				if !n.Status[k].Valid() && !math.IsNaN(x[k]) {
+					t.Fatalf("%s %s: finite %g at node %d whose velocity is NaN", sc, name, x[k], k)
+				}
+			}
+		}
+	}
+}

@@ -38,10 +38,10 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 	hx, hy := 1/g.DX, 1/g.DY
 	h := scheme.Halo()
 	slow := func(k, i, j int) bool {
-		if !consistent(stat[k], u[k], v[k]) {
+		if !consistentAround(stat, u, v, k, i, j, nx, ny) {
 			return false
 		}
-		if !stat[k].Valid() || u[k] != u[k] {
+		if !stat[k].Valid() {
 			dst[k] = math.NaN()
 			return true
 		}
@@ -66,14 +66,14 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 			}
 		}
 		lo, hi := row+h, row+nx-h
-		// A NaN anywhere in the stencils or at the centre, or an unusable status at the centre,
-		// sends the node to the fallback path.
+		// A NaN anywhere in the stencils, or an unusable status at the centre, sends the node to
+		// the fallback path (which also checks the centre's values; see consistentAround).
 		switch scheme {
 		case Richardson:
 			cx, cy := hx/12, hy/12
 			for k := lo; k < hi; k++ {
 				w := (v[k-2]-8*v[k-1]+8*v[k+1]-v[k+2])*cx - (u[k-2*nx]-8*u[k-nx]+8*u[k+nx]-u[k+2*nx])*cy
-				if t := w + u[k] + v[k]; t != t || !stat[k].Valid() {
+				if w != w || !stat[k].Valid() {
 					if !slow(k, k-row, j) {
 						return false
 					}
@@ -85,7 +85,7 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 			cx, cy := hx/10, hy/10
 			for k := lo; k < hi; k++ {
 				w := (2*(v[k+2]-v[k-2])+v[k+1]-v[k-1])*cx - (2*(u[k+2*nx]-u[k-2*nx])+u[k+nx]-u[k-nx])*cy
-				if t := w + u[k] + v[k]; t != t || !stat[k].Valid() {
+				if w != w || !stat[k].Valid() {
 					if !slow(k, k-row, j) {
 						return false
 					}
@@ -99,7 +99,7 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 				a := (v[k+nx+1] + 2*v[k+1] + v[k-nx+1] - v[k+nx-1] - 2*v[k-1] - v[k-nx-1]) * cx
 				b := (u[k+nx+1] + 2*u[k+nx] + u[k+nx-1] - u[k-nx+1] - 2*u[k-nx] - u[k-nx-1]) * cy
 				w := a - b
-				if t := w + u[k] + v[k]; t != t || !stat[k].Valid() {
+				if w != w || !stat[k].Valid() {
 					if !slow(k, k-row, j) {
 						return false
 					}
@@ -112,10 +112,10 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 			// Row views let the compiler drop most bounds checks in the hottest loop.
 			vr := v[lo-1 : hi+1]
 			us, un := u[lo-nx:hi-nx], u[lo+nx:hi+nx]
-			uc, vc, sc, out := u[lo:hi], v[lo:hi], stat[lo:hi], dst[lo:hi]
+			sc, out := stat[lo:hi], dst[lo:hi]
 			for m := range out {
 				w := (vr[m+2]-vr[m])*cx - (un[m]-us[m])*cy
-				if t := w + uc[m] + vc[m]; t != t || !sc[m].Valid() {
+				if w != w || !sc[m].Valid() {
 					if !slow(lo+m, lo+m-row, j) {
 						return false
 					}
