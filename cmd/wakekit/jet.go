@@ -344,12 +344,20 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	reps := make([][]circulation.BudgetPulse, samples)
 	for r := range reps {
 		h := circulation.BudgetHistories(repRecs[r], s.exit, s.smooth)
+		// Each replica finds its own pulses, so the detection's sensitivity to noise enters the
+		// spread; a replica that splits the record differently keeps the measured pulses.
+		rp := pulses
+		if s.pulse == "" {
+			if d := circulation.PulseDetect(h.T, h.U0, s.threshold); len(d) == len(pulses) {
+				rp = d
+			}
+		}
 		if r >= pressureSamples {
 			// Replicas beyond the pressure replicas reuse the measured route (a) force, and
 			// route (a) figures take their spread from the pressure replicas only.
 			copy(h.PressureA, out.series.PressureA)
 		}
-		reps[r] = circulation.BudgetPulses(h, pulses, s.exit, axi)
+		reps[r] = circulation.BudgetPulses(h, rp, s.exit, axi)
 	}
 	for q, p := range out.pulses {
 		base := p.Figures()
@@ -367,8 +375,16 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 				spread[n] = spreadP[n]
 			}
 		}
+		for n, f := range base {
+			if math.IsNaN(f.Value) {
+				spread[n] = math.NaN() // no uncertainty for a figure that was not computed
+			}
+		}
 		out.figures = append(out.figures, base)
 		out.spread = append(out.spread, spread)
+		if math.IsNaN(p.FormationNumber) {
+			out.notDone = append(out.notDone, fmt.Sprintf("Pulse %d: no formation number, because the circulation in view never exceeded the formed ring's: the ring took all the circulation delivered (stroke ratio %.3g at or below the formation number).", q+1, p.StrokeRatio))
+		}
 	}
 	out.notDone = append(out.notDone,
 		"The pressure on the exit plane outside the lip (r > outer lip radius) and on the lip face is not measured; route (b) uses the quasi-steady Bernoulli estimate -rho|u|^2/2 there, which leaves out the unsteady term -rho dphi/dt.",
