@@ -17,18 +17,17 @@ func consistent(st piv.Status, u, v float64) bool {
 	return !un && !vn
 }
 
-// consistentAround reports whether node k at (i, j) and its four neighbours are consistent.
-// The fast loops check only the centre's status and whether the stencil produced a NaN; a
-// usable-status node with NaN values makes its neighbours' stencils NaN, so they take the
-// fallback path, which calls this and finds it.
+// consistentAround reports whether node k at (i, j) is consistent and none of its four
+// neighbours is a usable-status node with a NaN velocity. The fast loops check only the
+// centre's status and whether the stencil produced a NaN; such a neighbour makes the stencil
+// NaN, so the node takes the fallback path, which calls this and finds it. (Unusable-status
+// nodes with finite values are found when they are the centre.)
 func consistentAround(stat []piv.Status, u, v []float64, k, i, j, nx, ny int) bool {
 	if !consistent(stat[k], u[k], v[k]) {
 		return false
 	}
-	if i > 0 && !consistent(stat[k-1], u[k-1], v[k-1]) || i < nx-1 && !consistent(stat[k+1], u[k+1], v[k+1]) {
-		return false
-	}
-	if j > 0 && !consistent(stat[k-nx], u[k-nx], v[k-nx]) || j < ny-1 && !consistent(stat[k+nx], u[k+nx], v[k+nx]) {
+	bad := func(n int) bool { return (u[n] != u[n] || v[n] != v[n]) && !consistent(stat[n], u[n], v[n]) }
+	if i > 0 && bad(k-1) || i < nx-1 && bad(k+1) || j > 0 && bad(k-nx) || j < ny-1 && bad(k+nx) {
 		return false
 	}
 	return true
