@@ -190,6 +190,8 @@ const maxFitNodes = 200_000
 // velocity) to the valid velocity vectors of f within rmax of the starting centre (x0, y0), by
 // minimising the sum of squared velocity residuals with gonum's BFGS method and the exact
 // gradient. The starting Γ and r_c come from the binned tangential velocity about (x0, y0).
+// A fit whose centre leaves the fit radius or whose core radius exceeds twice the fit radius
+// is an error, with NaN in every fitted value.
 func FitLambOseen(f *piv.Field, x0, y0, rmax float64, opt FitOptions) (LambOseenFit, error) {
 	if opt.MaxNodes > 0 {
 		if r := math.Sqrt(float64(opt.MaxNodes) * f.Grid.DX * f.Grid.DY / math.Pi); r < rmax {
@@ -327,7 +329,10 @@ func fitNodes(f *piv.Field, nodes []int, x0, y0, rmax float64, opt FitOptions) (
 	}
 	res.RMS = math.Sqrt(ssr/float64(2*n)) * us
 	res.Nodes = n
-	if !(res.Rc > 0) || math.IsNaN(res.Gamma) || math.Hypot(p[2], p[3])*L > rmax {
+	if !(res.Rc > 0) || !(res.Rc < 2*rmax) || math.IsNaN(res.Gamma) || math.Hypot(p[2], p[3])*L > rmax {
+		nan := math.NaN()
+		res = LambOseenFit{Gamma: nan, Rc: nan, X: nan, Y: nan, U: nan, V: nan, SigmaGamma: nan, SigmaRc: nan,
+			SigmaX: nan, SigmaY: nan, RMS: res.RMS, Nodes: n}
 		return res, fmt.Errorf("%s: Lamb–Oseen fit about (%.6g, %.6g) m did not converge to a vortex inside the fit radius", f.Name(), x0, y0)
 	}
 	// Covariance in scaled parameters: s²(JᵀJ)⁻¹.

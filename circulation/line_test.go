@@ -431,3 +431,19 @@ func TestFitLambOseenNoise(t *testing.T) {
 		}
 	}
 }
+
+// A fit with nothing to fit is an error, not a made-up vortex: a uniform stream has no
+// rotation, and a fit radius holding too few nodes is refused.
+func TestFitRefusals(t *testing.T) {
+	g := squareGrid(0.001, 0.01, 0, 0)
+	if _, err := FitLambOseen(analytic.Sample(analytic.Uniform{U: 0.1}, g, 0), 0, 0, 0.005, FitOptions{}); err == nil {
+		t.Error("fit of a uniform stream accepted")
+	}
+	f := analytic.Sample(analytic.LambOseen{Gamma: 1e-3, CoreRadius: 0.003}, g, 0)
+	if _, err := FitLambOseen(f, 0, 0, 0.0015, FitOptions{Strain: true}); err == nil {
+		t.Error("fit on 9 nodes for 8 parameters accepted")
+	}
+	if _, err := FitLambOseen(f, 0, 0, -1, FitOptions{}); err == nil {
+		t.Error("negative fit radius accepted")
+	}
+}

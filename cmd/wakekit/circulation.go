@@ -31,8 +31,9 @@ apart by a polygon column).
 
 With --profile X,Y --rmax R, writes instead the circulation and the azimuthal means of the
 tangential and radial velocity on circles about (X, Y) out to R, and fits a Lamb–Oseen vortex
-(circulation, core radius, centre and a uniform background) to the vectors within R, with
-one-standard-deviation uncertainties.
+(circulation, core radius, centre, and a background of uniform velocity plus uniform strain)
+to the vectors within R, with one-standard-deviation uncertainties. A fit that does not
+settle on a vortex inside R gives NaN and a warning.
 
 Contour coordinates are in --coord-unit (m unless given). A contour that leaves the field, a
 radius of zero or less, or an empty polygon is an error. When more than --max-bad of a
@@ -306,7 +307,7 @@ func runProfile(e *env, s *piv.Series, popt pipeline.Options, st circSettings, d
 		if err != nil {
 			return profRes{}, err
 		}
-		fit, ferr := circulation.FitLambOseen(f, st.px, st.py, st.rmax, circulation.FitOptions{})
+		fit, ferr := circulation.FitLambOseen(f, st.px, st.py, st.rmax, circulation.FitOptions{Strain: true})
 		if p.Warning != "" {
 			p.Warning = f.Name() + ": " + p.Warning
 		}
