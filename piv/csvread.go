@@ -541,7 +541,31 @@ func (c *csvReader) row(line []byte) error {
 	var val [4]float64
 	st := Measured
 	pos, k := 0, 0
+	delim := c.delim
 	for {
+		// Fused fast path: a plain number that ends right at the delimiter (or the line end)
+		// is parsed in the same scan that finds the cell's end.
+		if delim != ' ' && k < len(c.slotOf) {
+			if s := c.slotOf[k]; s >= 0 && s != slotStatus {
+				if f, used, ok := parsePrefix(line[pos:]); ok {
+					end := pos + used
+					if end == len(line) || line[end] == delim {
+						if s == slotX || s == slotY {
+							f *= c.lenScale
+						} else {
+							f *= c.velScale
+						}
+						val[s] = f
+						k++
+						if end == len(line) {
+							break
+						}
+						pos = end + 1
+						continue
+					}
+				}
+			}
+		}
 		cell, next, more := c.cell(line, pos)
 		if k < len(c.slotOf) {
 			if s := c.slotOf[k]; s >= 0 {

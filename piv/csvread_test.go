@@ -12,6 +12,7 @@ import (
 	"runtime"
 	"strconv"
 	"strings"
+	"syscall"
 	"testing"
 )
 
@@ -441,14 +442,21 @@ func benchReadCSV(b *testing.B, n int, full, colMajor bool) {
 	b.SetBytes(st.Size())
 	b.ReportAllocs()
 	var m0, m1 runtime.MemStats
+	var r0, r1 syscall.Rusage
 	runtime.ReadMemStats(&m0)
+	syscall.Getrusage(syscall.RUSAGE_SELF, &r0)
 	for b.Loop() {
 		f, err := ReadFile(path, ReadOptions{})
 		if err != nil || f.Grid.NX != n || f.Grid.NY != n {
 			b.Fatal(err)
 		}
 	}
+	syscall.Getrusage(syscall.RUSAGE_SELF, &r1)
 	runtime.ReadMemStats(&m1)
+	// CPU time (user + system, all threads, garbage collector included) is less disturbed by
+	// other processes on a shared machine than wall time: MB per CPU second is the one-core rate.
+	cpu := float64(r1.Utime.Nano()-r0.Utime.Nano()+r1.Stime.Nano()-r0.Stime.Nano()) / 1e9
+	b.ReportMetric(float64(st.Size())*float64(b.N)/1e6/cpu, "MB/cpu-s")
 	b.ReportMetric(float64(m1.TotalAlloc-m0.TotalAlloc)/float64(b.N)/float64(17*n*n), "alloc/decoded")
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n*n), "ns/node")
 }

@@ -20,6 +20,14 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 // can; ok is false when the text is not such a number or the fast path cannot guarantee the
 // correctly rounded result.
 func parseFast(b []byte) (f float64, ok bool) {
+	f, used, ok := parsePrefix(b)
+	return f, ok && used == len(b)
+}
+
+// parsePrefix parses the plain decimal number at the start of b as parseFast does, returning
+// how many bytes it used; ok is false when b does not start with such a number or the fast path
+// cannot guarantee the correctly rounded result.
+func parsePrefix(b []byte) (f float64, used int, ok bool) {
 	n := len(b)
 	i := 0
 	neg := false
@@ -65,12 +73,9 @@ func parseFast(b []byte) (f float64, ok bool) {
 		digits = digits || i > fs
 	}
 	if !digits || nd > 15 {
-		return 0, false
+		return 0, 0, false
 	}
-	if i < n {
-		if b[i] != 'e' && b[i] != 'E' {
-			return 0, false
-		}
+	if i < n && (b[i] == 'e' || b[i] == 'E') {
 		i++
 		eneg := false
 		if i < n && (b[i] == '-' || b[i] == '+') {
@@ -81,14 +86,14 @@ func parseFast(b []byte) (f float64, ok bool) {
 		for ; i < n; i++ {
 			d := b[i] - '0'
 			if d > 9 {
-				return 0, false
+				break
 			}
 			if e < 10000 {
 				e = e*10 + int(d)
 			}
 		}
 		if i == es {
-			return 0, false
+			return 0, 0, false
 		}
 		if eneg {
 			e = -e
@@ -97,12 +102,12 @@ func parseFast(b []byte) (f float64, ok bool) {
 	}
 	if m == 0 {
 		if neg {
-			return math.Copysign(0, -1), true
+			return math.Copysign(0, -1), i, true
 		}
-		return 0, true
+		return 0, i, true
 	}
 	if exp < -22 || exp > 22 {
-		return 0, false
+		return 0, 0, false
 	}
 	f = float64(m)
 	if exp < 0 {
@@ -113,7 +118,7 @@ func parseFast(b []byte) (f float64, ok bool) {
 	if neg {
 		f = -f
 	}
-	return f, true
+	return f, i, true
 }
 
 // parseNumber parses one cell. It returns ok = false for text that is not a number; numbers
