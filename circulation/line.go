@@ -322,40 +322,32 @@ func sampleStatus(f *piv.Field, x, y float64, m piv.Interp) (u, v float64, rep, 
 		// stencil's status checked in the same pass.
 		wx, wy := keys(tx), keys(ty)
 		var su, sv float64
-		bad, r := false, false
-		for b := 0; b < 4 && !bad; b++ {
+		// Kinds Missing (2) and Solid (3) have bit 1 set, Replaced (1) only bit 0: the OR of
+		// the 16 statuses says at once whether the stencil is usable and touches a filled node.
+		var or piv.Status
+		for b := 0; b < 4; b++ {
 			row := (j0-1+b)*g.NX + i0 - 1
-			var ru, rv float64
-			for a := 0; a < 4; a++ {
-				st := f.Status[row+a].Kind()
-				if st == piv.Missing || st == piv.Solid {
-					bad = true
-					break
-				}
-				r = r || st == piv.Replaced
-				ru += wx[a] * f.U[row+a]
-				rv += wx[a] * f.V[row+a]
-			}
-			su += wy[b] * ru
-			sv += wy[b] * rv
+			st, us, vs := f.Status[row:row+4], f.U[row:row+4], f.V[row:row+4]
+			or |= st[0] | st[1] | st[2] | st[3]
+			su += wy[b] * (wx[0]*us[0] + wx[1]*us[1] + wx[2]*us[2] + wx[3]*us[3])
+			sv += wy[b] * (wx[0]*vs[0] + wx[1]*vs[1] + wx[2]*vs[2] + wx[3]*vs[3])
 		}
-		if !bad && !math.IsNaN(su) && !math.IsNaN(sv) {
-			return su, sv, r, true
+		if or&2 == 0 && !math.IsNaN(su) && !math.IsNaN(sv) {
+			return su, sv, or&1 != 0, true
 		}
 	}
 	k := j0*g.NX + i0
-	ks := [4]int{k, k + 1, k + g.NX, k + g.NX + 1}
-	for _, kk := range ks {
-		switch f.Status[kk].Kind() {
-		case piv.Replaced:
-			rep = true
-		case piv.Missing, piv.Solid:
-			return 0, 0, rep, false
-		}
+	r0, r1 := k, k+g.NX
+	st0, st1 := f.Status[r0:r0+2], f.Status[r1:r1+2]
+	or := st0[0] | st0[1] | st1[0] | st1[1]
+	rep = or&2 == 0 && or&1 != 0
+	if or&2 != 0 {
+		return 0, 0, false, false
 	}
 	w00, w10, w01, w11 := (1-tx)*(1-ty), tx*(1-ty), (1-tx)*ty, tx*ty
-	u = w00*f.U[ks[0]] + w10*f.U[ks[1]] + w01*f.U[ks[2]] + w11*f.U[ks[3]]
-	v = w00*f.V[ks[0]] + w10*f.V[ks[1]] + w01*f.V[ks[2]] + w11*f.V[ks[3]]
+	u0, u1, v0, v1 := f.U[r0:r0+2], f.U[r1:r1+2], f.V[r0:r0+2], f.V[r1:r1+2]
+	u = w00*u0[0] + w10*u0[1] + w01*u1[0] + w11*u1[1]
+	v = w00*v0[0] + w10*v0[1] + w01*v1[0] + w11*v1[1]
 	if math.IsNaN(u) || math.IsNaN(v) {
 		return 0, 0, rep, false
 	}
