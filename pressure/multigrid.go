@@ -251,20 +251,28 @@ func vcycle(levels []*level, li int, b, x []float64, work [][]float64) {
 	r := work[li]
 	l.resid(b, x, r)
 	c := levels[li+1]
-	for k := range c.r {
-		c.r[k] = 0
-	}
-	for j := 0; j < l.ny; j++ {
-		for i := 0; i < l.nx; i++ {
-			c.r[(j/2)*c.nx+i/2] += r[j*l.nx+i]
+	// Restriction: sum the residuals of each 2x2 aggregate.
+	for J := 0; J < c.ny; J++ {
+		dst := c.r[J*c.nx : (J+1)*c.nx]
+		for k := range dst {
+			dst[k] = 0
+		}
+		for j := 2 * J; j < 2*J+2 && j < l.ny; j++ {
+			src := r[j*l.nx : (j+1)*l.nx]
+			for i, v := range src {
+				dst[i>>1] += v
+			}
 		}
 	}
 	vcycle(levels, li+1, c.r, c.x, work)
+	// Prolongation: add the (over-corrected) aggregate correction to its unknowns.
 	for j := 0; j < l.ny; j++ {
-		for i := 0; i < l.nx; i++ {
-			k := j*l.nx + i
-			if l.unk[k] {
-				x[k] += overCorrection * c.x[(j/2)*c.nx+i/2]
+		src := c.x[(j>>1)*c.nx : (j>>1+1)*c.nx]
+		row := x[j*l.nx : (j+1)*l.nx]
+		unk := l.unk[j*l.nx : (j+1)*l.nx]
+		for i := range row {
+			if unk[i] {
+				row[i] += overCorrection * src[i>>1]
 			}
 		}
 	}

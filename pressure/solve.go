@@ -295,8 +295,9 @@ func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree
 			// Mean of the region (volume-weighted) equals PInf.
 			for k, l := range label {
 				if l == c {
-					have += s.w[k] * p[k]
-					wsum += s.w[k]
+					w := s.row[k/s.nx]
+					have += w * p[k]
+					wsum += w
 				}
 			}
 			target = opt.PInf * wsum

@@ -86,7 +86,7 @@ type system struct {
 	val    []float64 // values of fixed nodes
 	b      []float64 // right-hand side for the unknowns (fixed values moved in)
 	diag   []float64 // diagonal of the operator for unknowns
-	w      []float64 // control-volume weight (for means)
+	row    []float64 // control-volume weight of each row (for means)
 	anyFix bool
 }
 
@@ -124,56 +124,66 @@ func absIntegral(a, b float64) float64 {
 // value of each Dirichlet node (NaN elsewhere); it may be nil.
 func newSystem(g piv.Grid, geom piv.Geometry, gx, gy, fixedVal []float64) *system {
 	n := g.N()
-	s := &system{nx: g.NX, ny: g.NY,
+	nx := g.NX
+	s := &system{nx: nx, ny: g.NY,
 		cx: make([]float64, n), cy: make([]float64, n),
 		active: make([]bool, n), fixed: make([]bool, n), val: make([]float64, n),
-		b: make([]float64, n), diag: make([]float64, n), w: make([]float64, n)}
+		b: make([]float64, n), diag: make([]float64, n)}
 	row, face := radialWeights(g, geom)
-	for k := 0; k < n; k++ {
-		j := k / g.NX
-		s.active[k] = isFinite(gx[k]) && isFinite(gy[k]) && row[j] > 0
-		if s.active[k] {
-			s.w[k] = row[j]
+	s.row = row
+	for j := 0; j < g.NY; j++ {
+		if row[j] <= 0 {
+			continue
 		}
-		if s.active[k] && fixedVal != nil && !math.IsNaN(fixedVal[k]) {
-			s.fixed[k], s.val[k] = true, fixedVal[k]
-			s.anyFix = true
+		act := s.active[j*nx : (j+1)*nx]
+		ax, ay := gx[j*nx:(j+1)*nx], gy[j*nx:(j+1)*nx]
+		for i := range act {
+			act[i] = isFinite(ax[i]) && isFinite(ay[i])
+		}
+	}
+	if fixedVal != nil {
+		for k := 0; k < n; k++ {
+			if s.active[k] && !math.IsNaN(fixedVal[k]) {
+				s.fixed[k], s.val[k] = true, fixedVal[k]
+				s.anyFix = true
+			}
 		}
 	}
 	ax := 1 / (g.DX * g.DX)
 	ay := 1 / (g.DY * g.DY)
+	hx, hy := 0.5*g.DX, 0.5*g.DY
 	// Flux balance: for unknown P, Σ_f c_f (p_P - p_N) = -Σ_f c_f h_f (G_f · n_f), with c the
 	// face coefficient (area over distance, per cell area).
 	for j := 0; j < g.NY; j++ {
-		for i := 0; i < g.NX; i++ {
-			k := j*g.NX + i
+		cxRow := ax * row[j]
+		cyRow := ay * face[j]
+		for i := 0; i < nx; i++ {
+			k := j*nx + i
 			if !s.active[k] {
 				continue
 			}
-			if i+1 < g.NX && s.active[k+1] {
-				c := ax * row[j]
-				cg := c * 0.5 * (gx[k] + gx[k+1]) * g.DX
+			if i+1 < nx && s.active[k+1] {
+				cg := cxRow * hx * (gx[k] + gx[k+1])
 				if s.anyFix {
-					s.couple(k, k+1, c, cg)
+					s.couple(k, k+1, cxRow, cg)
 				} else {
-					s.diag[k] += c
-					s.diag[k+1] += c
+					s.diag[k] += cxRow
+					s.diag[k+1] += cxRow
 					s.b[k] -= cg
 					s.b[k+1] += cg
-					s.cx[k] = c
+					s.cx[k] = cxRow
 				}
 			}
-			if j+1 < g.NY && s.active[k+g.NX] {
-				c := ay * face[j]
-				cg := c * 0.5 * (gy[k] + gy[k+g.NX]) * g.DY
+			if j+1 < g.NY && s.active[k+nx] {
+				cg := cyRow * hy * (gy[k] + gy[k+nx])
 				if s.anyFix {
-					s.couple(k, k+g.NX, c, cg)
+					s.couple(k, k+nx, cyRow, cg)
 				} else {
-					s.diag[k] += c
-					s.diag[k+g.NX] += c
+					s.diag[k] += cyRow
+					s.diag[k+nx] += cyRow
 					s.b[k] -= cg
-					s.b[k+g.NX] += cg
-					s.cy[k] = c
+					s.b[k+nx] += cg
+					s.cy[k] = cyRow
 				}
 			}
 		}
