@@ -153,3 +153,38 @@ func BenchmarkCircle1000(b *testing.B) {
 		})
 	}
 }
+
+// Degenerate frames do not panic: a field with no valid node gives no cores and a refused line
+// integral; a core with missing vorticity reports the missing share.
+func TestDetectDegenerate(t *testing.T) {
+	g := piv.Grid{NX: 12, NY: 9, DX: 1e-3, DY: 1e-3}
+	f := piv.NewField(g)
+	crit, omega := CriterionField(f, Gamma2, vorticity.Central, 0)
+	if cores, err := Detect(f, Gamma2, crit, omega, DetectOptions{}); err != nil || len(cores) != 0 {
+		t.Errorf("empty field: %d cores, err %v", len(cores), err)
+	}
+	c, err := CircleSampled(g, piv.Circle{X: 0.005, Y: 0.004, R: 0.002}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Line(f, c, LineOptions{}); err == nil {
+		t.Error("line integral over missing data accepted")
+	}
+	tiny := piv.NewField(piv.Grid{NX: 1, NY: 1, DX: 1, DY: 1})
+	if _, err := Line(tiny, c, LineOptions{}); err == nil {
+		t.Error("line integral on a 1x1 grid accepted")
+	}
+	rc := 0.005
+	h := rc / 5
+	lo := analytic.Sample(analytic.LambOseen{Gamma: 1e-3, CoreRadius: rc}, squareGrid(h, 3*rc, 0.1*h, 0), 0)
+	crit, omega = CriterionField(lo, Gamma2, vorticity.Central, 0)
+	k := lo.Grid.Index(lo.Grid.NX/2, lo.Grid.NY/2)
+	omega[k] = math.NaN()
+	cores, err := Detect(lo, Gamma2, crit, omega, DetectOptions{})
+	if err != nil || len(cores) != 1 || !(cores[0].MissingShare > 0) {
+		t.Fatalf("core with a hole: %d cores, err %v", len(cores), err)
+	}
+	if want := 1 / float64(len(cores[0].Nodes)); math.Abs(cores[0].MissingShare-want) > 1e-12 {
+		t.Errorf("missing share %g, want %g", cores[0].MissingShare, want)
+	}
+}
