@@ -147,8 +147,9 @@ func (o MedianOptions) resolved() (MedianOptions, error) {
 // the vector form; see the tests). All residuals are computed on the field as it was before the
 // test, so the result does not depend on the order of the nodes.
 //
-// It allocates one flag per node per call and nothing per node; interior 3×3 neighbourhoods
-// with eight valid neighbours take a branch-free median network.
+// It allocates one flag per node per call and nothing per node (beyond the list of rejected
+// nodes); interior 3×3 neighbourhoods with eight valid neighbours take branch-free median
+// networks on columns sorted once per row.
 func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	o, err := opt.resolved()
 	if err != nil {
@@ -162,7 +163,7 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	for k := range ok {
 		ok[k] = f.Valid(k)
 	}
-	bad := make([]bool, g.N())
+	var bad []int // nodes that fail, applied after every node is judged
 	thr, eps := o.Threshold, o.Epsilon
 	var nu, nv [24]float64
 	nx := g.NX
@@ -200,8 +201,10 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 				b -= a
 				c -= a
 				if o.PerComponent {
-					bad[k] = residualAbout8(u0, um, U[0], U[1], U[2], U[b], U[b+2], U[c], U[c+1], U[c+2], eps) > thr ||
-						residualAbout8(v0, vm, V[0], V[1], V[2], V[b], V[b+2], V[c], V[c+1], V[c+2], eps) > thr
+					if residualAbout8(u0, um, U[0], U[1], U[2], U[b], U[b+2], U[c], U[c+1], U[c+2], eps) > thr ||
+						residualAbout8(v0, vm, V[0], V[1], V[2], V[b], V[b+2], V[c], V[c+1], V[c+2], eps) > thr {
+						bad = append(bad, k)
+					}
 					continue
 				}
 				d := func(q int) uint64 {
@@ -220,7 +223,9 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 				}
 				rm := 0.5 * (math.Sqrt(lo2) + math.Sqrt(math.Float64frombits(hi)))
 				lim := thr * (rm + eps)
-				bad[k] = d0 > lim*lim
+				if d0 > lim*lim {
+					bad = append(bad, k)
+				}
 				continue
 			}
 			n := 0
@@ -238,20 +243,20 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 				continue
 			}
 			if o.PerComponent {
-				bad[k] = residualN(u0, nu[:n], eps) > thr || residualN(v0, nv[:n], eps) > thr
+				if residualN(u0, nu[:n], eps) > thr || residualN(v0, nv[:n], eps) > thr {
+					bad = append(bad, k)
+				}
 			} else {
-				bad[k] = vectorResidualN(u0, v0, nu[:n], nv[:n], eps) > thr
+				if vectorResidualN(u0, v0, nu[:n], nv[:n], eps) > thr {
+					bad = append(bad, k)
+				}
 			}
 		}
 	}
-	count := 0
-	for k, b := range bad {
-		if b {
-			reject(f, k, RejectedMedian)
-			count++
-		}
+	for _, k := range bad {
+		reject(f, k, RejectedMedian)
 	}
-	return count, nil
+	return len(bad), nil
 }
 
 // colKeys holds, for one grid column and one velocity component, the order keys of the three
@@ -398,10 +403,8 @@ func key(x float64) uint64 {
 
 // unkey inverts key.
 func unkey(k uint64) float64 {
-	if k>>63 != 0 {
-		return math.Float64frombits(k &^ (1 << 63))
-	}
-	return math.Float64frombits(^k)
+	// Top bit set (a non-negative value): clear it; otherwise flip every bit. Branch-free.
+	return math.Float64frombits(k ^ ((k>>63 - 1) | 1<<63))
 }
 
 // StdOptions configures the local standard-deviation filter.
