@@ -61,8 +61,7 @@ const latticeTol = 0.05
 const maxLine = 1 << 20
 
 // ReadCSV reads one frame from a CSV table. name is used in messages; sizeHint (the file size,
-// or 0 when unknown) lets the reader reserve its columns once. See the package README for the
-// accepted layouts: delimiter detected from the first line (comma, semicolon, tab or runs of
+// or 0 when unknown) lets the reader reserve its columns once. The accepted layouts: delimiter detected from the first line (comma, semicolon, tab or runs of
 // spaces), optional header with units in brackets or parentheses, columns found by name or by
 // opt.Columns, '#' comment lines, empty or NaN cells for missing vectors, rows in any order.
 // Errors are *InputError values naming the file, line and column (the 1-based cell number).
@@ -73,11 +72,19 @@ func ReadCSV(r io.Reader, name string, sizeHint int64, opt ReadOptions) (*Field,
 // readCSV is ReadCSV with a sampled mean line length [bytes] (0 when unknown) that makes the
 // row-count estimate robust to files whose first lines are shorter than the rest.
 func readCSV(r io.Reader, name string, sizeHint int64, lineLen float64, opt ReadOptions) (*Field, *FileInfo, error) {
+	return newCSVReader(r, name, sizeHint, lineLen, opt).run()
+}
+
+func newCSVReader(r io.Reader, name string, sizeHint int64, lineLen float64, opt ReadOptions) *csvReader {
 	cr := &csvReader{name: name, opt: opt, br: bufio.NewReaderSize(r, 1<<18), sizeHint: sizeHint, lineLen: lineLen}
 	cr.maxNodes = opt.MaxNodes
 	if cr.maxNodes <= 0 {
 		cr.maxNodes = DefaultMaxNodes
 	}
+	return cr
+}
+
+func (cr *csvReader) run() (*Field, *FileInfo, error) {
 	if err := cr.read(); err != nil {
 		return nil, nil, err
 	}
@@ -96,6 +103,7 @@ type csvReader struct {
 	br       *bufio.Reader
 	sizeHint int64
 	lineLen  float64 // sampled mean line length, 0 when unknown
+	generic  bool    // never take the fused number path (tests compare both paths)
 	maxNodes int
 
 	line      int   // current line number
@@ -545,7 +553,7 @@ func (c *csvReader) row(line []byte) error {
 	for {
 		// Fused fast path: a plain number that ends right at the delimiter (or the line end)
 		// is parsed in the same scan that finds the cell's end.
-		if delim != ' ' && k < len(c.slotOf) {
+		if delim != ' ' && !c.generic && k < len(c.slotOf) {
 			if s := c.slotOf[k]; s >= 0 && s != slotStatus {
 				if f, used, ok := parsePrefix(line[pos:]); ok {
 					end := pos + used

@@ -364,6 +364,20 @@ func FuzzReadCSV(f *testing.F) {
 	f.Add([]byte("# c\n0 0 1 1\n1 0 1 1\n0 2 1 1\n"))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		fl, _, err := ReadCSV(bytes.NewReader(data), "fuzz.csv", int64(len(data)), ReadOptions{MaxNodes: 1 << 16})
+		// The fused number path must agree with the cell-by-cell path in result and error.
+		gr := newCSVReader(bytes.NewReader(data), "fuzz.csv", int64(len(data)), 0, ReadOptions{MaxNodes: 1 << 16})
+		gr.generic = true
+		gl, _, gerr := gr.run()
+		if (err == nil) != (gerr == nil) || err != nil && err.Error() != gerr.Error() {
+			t.Fatalf("fused path: %v; cell-by-cell path: %v", err, gerr)
+		}
+		if err == nil {
+			for k := range fl.U {
+				if !sameBits(fl.U[k], gl.U[k]) || !sameBits(fl.V[k], gl.V[k]) || fl.Status[k] != gl.Status[k] {
+					t.Fatalf("node %d: fused %v %v, cell-by-cell %v %v", k, fl.U[k], fl.V[k], gl.U[k], gl.V[k])
+				}
+			}
+		}
 		if err != nil {
 			var ie *InputError
 			if !errors.As(err, &ie) || ie.File != "fuzz.csv" {
