@@ -284,7 +284,11 @@ func delimName(d byte) string {
 }
 
 func (c *csvReader) read() error {
-	if head, _ := c.br.Peek(512); bytes.IndexByte(head, 0) >= 0 {
+	head, _ := c.br.Peek(512)
+	if bytes.HasPrefix(head, []byte{0xff, 0xfe}) || bytes.HasPrefix(head, []byte{0xfe, 0xff}) {
+		return c.errf(0, 0, "is UTF-16 text; save the table as UTF-8 (or plain ASCII) CSV")
+	}
+	if bytes.IndexByte(head, 0) >= 0 {
 		return c.errf(0, 0, "holds binary data, not a text table of velocities")
 	}
 	var first []byte

@@ -240,6 +240,7 @@ func TestReadCSVErrors(t *testing.T) {
 		{"empty", "", ReadOptions{}, 0, 0, "empty file"},
 		{"header only", "x,y,u,v\n# nothing\n", ReadOptions{}, 0, 0, "no data rows"},
 		{"binary", "\x00\x01\x02garbage", ReadOptions{}, 0, 0, "binary data"},
+		{"utf-16", "\xff\xfex\x00,\x00y\x00", ReadOptions{}, 0, 0, "UTF-16"},
 		{"too many nodes", "x,y,u,v\n0,0,1,1\n1,0,1,1\n0,1,1,1\n1,1,1,1\n", ReadOptions{MaxNodes: 3}, 5, 0, "limit"},
 		{"sparse grid too big", "x,y,u,v\n0,0,1,1\n1e-3,0,1,1\n10,10,1,1\n", ReadOptions{MaxNodes: 1000}, 0, 0, "limit"},
 	}

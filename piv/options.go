@@ -19,7 +19,8 @@ type ReadOptions struct {
 	// whether the first row is the top (largest y).
 	X0, Y0, DX, DY float64
 	RowsTopDown    bool
-	// ImageYDown says the file's y axis points down (image coordinates); y is flipped on reading.
+	// ImageYDown says the file's y axis points down (image coordinates); y is flipped on reading
+	// (y becomes ymin + ymax - y) and v changes sign.
 	ImageYDown bool
 	// Geometry is attached to every frame read.
 	Geometry Geometry
