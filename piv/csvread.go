@@ -524,6 +524,9 @@ func (c *csvReader) reserve() error {
 		if c.lineLen > 0 {
 			per = c.lineLen
 		}
+		// A data line holds at least one byte and a delimiter per cell, which bounds the
+		// reservation to a few times the file size whatever the samples say.
+		per = math.Max(per, float64(2*c.ncell))
 		est := c.rows + int(margin*float64(c.sizeHint-c.bytesRead)/per) + 64
 		if est > c.rows {
 			want = est

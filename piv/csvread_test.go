@@ -343,6 +343,12 @@ func TestReadFileGzipAndLimits(t *testing.T) {
 			t.Fatalf("gzip frame differs at %d", k)
 		}
 	}
+	// The gzip trailer records the uncompressed size (RFC 1952), used to reserve memory.
+	gf, _ := os.Open(gz)
+	if got := gzipSize(gf, int64(zb.Len())); got != int64(len(text)) {
+		t.Errorf("gzip size hint %d, want %d", got, len(text))
+	}
+	gf.Close()
 	if !IsInput(plain) || !IsInput(gz) {
 		t.Error("files read are not marked as inputs")
 	}

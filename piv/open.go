@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"compress/gzip"
+	"encoding/binary"
 	"errors"
 	"io"
 	"os"
@@ -37,8 +38,8 @@ func ReadFileInfo(path string, opt ReadOptions) (*Field, *FileInfo, error) {
 }
 
 // openInput opens a file for reading, checks its size against opt.MaxFileBytes, marks it as an
-// input and unwraps gzip. size is the file size, or 0 when compressed (unknown after
-// decompression).
+// input and unwraps gzip. size is the file size, or for gzip the size the trailer gives (a hint
+// only).
 func openInput(path string, opt ReadOptions) (r io.Reader, size int64, gz bool, c io.Closer, err error) {
 	fh, err := os.Open(path)
 	if err != nil {
@@ -69,7 +70,7 @@ func openInput(path string, opt ReadOptions) (r io.Reader, size int64, gz bool, 
 		if opt.MaxFileBytes > 0 {
 			lim = &limitReader{r: zr, left: opt.MaxFileBytes, path: path}
 		}
-		return lim, 0, true, fh, nil
+		return lim, gzipSize(fh, st.Size()), true, fh, nil
 	}
 	return br, st.Size(), false, fh, nil
 }
@@ -115,4 +116,20 @@ func sampleLineLength(fh *os.File, size int64) float64 {
 		}
 	}
 	return best
+}
+
+// gzipSize returns the uncompressed size recorded in the ISIZE trailer of a gzip file (RFC 1952
+// section 2.3.1: the last four bytes, little-endian, modulo 2^32), or 0 when it cannot be read.
+// For a file of several gzip members it is the size of the last one, so it serves only as a
+// hint for reserving memory.
+func gzipSize(fh *os.File, size int64) int64 {
+	if size < 18 {
+		return 0
+	}
+	var b [4]byte
+	if _, err := fh.ReadAt(b[:], size-4); err != nil {
+		return 0
+	}
+	// Text tables rarely compress by more than 20 times; a larger claim is not trusted.
+	return min(int64(binary.LittleEndian.Uint32(b[:])), 64*size)
 }
