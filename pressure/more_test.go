@@ -103,7 +103,7 @@ func TestSolversAgreeMasked(t *testing.T) {
 	}
 	// Full rectangle: transform against multigrid.
 	g, exact, gx, gy := manufacturedGrid(48, 0)
-	for _, edges := range []Edges{0, Top, Left | Right | Bottom} {
+	for _, edges := range []Edges{0, Top, Left | Right | Bottom, Left | Bottom | Top, Right} {
 		opt := Options{Dirichlet: edges, Tol: 1e-11, Boundary: func(i, j int) float64 { return exact[g.Index(i, j)] }}
 		opt.Solver = Transform
 		a, err := Integrate(g, piv.Geometry{}, gx, gy, opt)

@@ -16,8 +16,9 @@ const (
 	Auto Solver = iota
 	// Transform is the direct solver: a fast cosine or sine transform along x (matching the
 	// left/right boundary types) and a tridiagonal solve along y for each mode. It needs every
-	// node valid and the left and right edges of the same type; it handles axisymmetric
-	// problems because the radial operator is tridiagonal.
+	// node valid and the left and right edges of the same type (a planar problem whose bottom
+	// and top edges are of one type instead is solved on the transposed grid); it handles
+	// axisymmetric problems because the radial operator is tridiagonal.
 	Transform
 	// Multigrid is the matrix-free conjugate-gradient method preconditioned by one V-cycle of
 	// an aggregation multigrid; it handles any mask.
@@ -129,6 +130,9 @@ func Integrate(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*R
 	if !any {
 		return nil, ErrNoData
 	}
+	if t, ok := transposeFor(g, geom, gx, gy, opt); ok {
+		return t, nil
+	}
 	fixedVal, err := dirichletValues(g, gx, gy, opt)
 	if err != nil {
 		return nil, err
@@ -172,6 +176,63 @@ func Integrate(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*R
 	}
 	res.P = p
 	return res, nil
+}
+
+// transposeFor solves a planar full-rectangle problem whose left and right edges differ in type
+// but whose bottom and top edges agree with the transform solver on the transposed grid, where
+// the roles are swapped. ok is false when that does not apply (the caller then solves as
+// usual).
+func transposeFor(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*Result, bool) {
+	if geom.Axisymmetric || (opt.Solver != Auto && opt.Solver != Transform) {
+		return nil, false
+	}
+	d := opt.Dirichlet
+	if opt.LevelOnly {
+		d = 0
+	}
+	xMixed := (d&Left != 0) != (d&Right != 0)
+	yMixed := (d&Bottom != 0) != (d&Top != 0)
+	if !xMixed || yMixed {
+		return nil, false
+	}
+	for k := range gx {
+		if !isFinite(gx[k]) || !isFinite(gy[k]) {
+			return nil, false
+		}
+	}
+	tg := piv.Grid{NX: g.NY, NY: g.NX, X0: g.Y0, Y0: g.X0, DX: g.DY, DY: g.DX}
+	n := g.N()
+	tx, ty := make([]float64, n), make([]float64, n)
+	for j := 0; j < g.NY; j++ {
+		for i := 0; i < g.NX; i++ {
+			k, kt := g.Index(i, j), tg.Index(j, i)
+			tx[kt], ty[kt] = gy[k], gx[k]
+		}
+	}
+	to := opt
+	to.Solver = Transform
+	to.Dirichlet = 0
+	for _, m := range [][2]Edges{{Left, Bottom}, {Right, Top}, {Bottom, Left}, {Top, Right}} {
+		if opt.Dirichlet&m[0] != 0 {
+			to.Dirichlet |= m[1]
+		}
+	}
+	if opt.Boundary != nil {
+		to.Boundary = func(i, j int) float64 { return opt.Boundary(j, i) }
+	}
+	to.RefX, to.RefY = opt.RefY, opt.RefX
+	res, err := Integrate(tg, geom, tx, ty, to)
+	if err != nil {
+		return nil, false
+	}
+	p := make([]float64, n)
+	for j := 0; j < g.NY; j++ {
+		for i := 0; i < g.NX; i++ {
+			p[g.Index(i, j)] = res.P[tg.Index(j, i)]
+		}
+	}
+	res.P = p
+	return res, true
 }
 
 // dirichletValues returns the prescribed value at every valid node of the Dirichlet edges (NaN

@@ -66,6 +66,7 @@ func TestManufacturedSecondOrder(t *testing.T) {
 		{"transform neumann", Transform, 0, false},
 		{"transform dirichlet top", Transform, Top, false},
 		{"transform dirichlet left,right", Transform, Left | Right, false},
+		{"transform dirichlet right,bottom,top (transposed)", Transform, Right | Bottom | Top, false},
 		{"multigrid neumann", Multigrid, 0, false},
 		{"multigrid dirichlet right,top", Multigrid, Right | Top, false},
 		{"paths", Paths, 0, false},

@@ -45,7 +45,7 @@ Reference pressure:
   otherwise the mean pressure is p_inf.
 
 Solvers (--solver): transform (direct cosine/sine transforms, full rectangles with the left
-and right edges of one type), multigrid (conjugate gradients with a multigrid preconditioner,
+and right edges of one type, or, for planar data, the bottom and top edges of one type), multigrid (conjugate gradients with a multigrid preconditioner,
 any mask, to --tolerance), paths (direct integration along many paths, a cross-check),
 auto (transform when it applies, else multigrid).
 
