@@ -1,12 +1,15 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"io"
 	"math"
+	"runtime"
 	"strings"
 
 	"github.com/spf13/pflag"
+	"github.com/wakekit/wakekit/internal/pipeline"
 	"github.com/wakekit/wakekit/piv"
 	"github.com/wakekit/wakekit/vorticity"
 )
@@ -34,7 +37,8 @@ Examples:
   wakekit inspect --plain --grid-spacing 0.5 --length-unit mm u_0001.txt v_0001.txt`,
 		setup: func(fs *pflag.FlagSet) func(e *env, args []string) error {
 			rf := addReadFlags(fs)
-			all := fs.Bool("all", false, "read every frame, check that all share one grid and report the range of valid shares")
+			all := fs.Bool("all", false, "read every frame, check that all share one grid and report the ranges of valid share and continuity residual")
+			workers := fs.Int("workers", runtime.NumCPU(), "with --all: frames read at once")
 			jsonOut := fs.String("json", "", "also write the summary as JSON to this file")
 			return func(e *env, args []string) error {
 				if len(args) == 0 {
@@ -44,7 +48,11 @@ Examples:
 				if err != nil {
 					return err
 				}
-				rep, err := inspect(args, opt, *all)
+				var progress io.Writer
+				if e.stderrTTY {
+					progress = e.stderr
+				}
+				rep, err := inspect(args, opt, *all, pipeline.Options{Workers: *workers, Progress: progress, Label: "inspect"})
 				if err != nil {
 					return err
 				}
@@ -108,9 +116,11 @@ type inspectReport struct {
 	AllFrames     bool          `json:"all_frames_read"`
 	ValidShareMin piv.JSONFloat `json:"valid_share_min"`
 	ValidShareMax piv.JSONFloat `json:"valid_share_max"`
+	ResidualMin   piv.JSONFloat `json:"continuity_residual_min"`
+	ResidualMax   piv.JSONFloat `json:"continuity_residual_max"`
 }
 
-func inspect(args []string, opt piv.ReadOptions, all bool) (*inspectReport, error) {
+func inspect(args []string, opt piv.ReadOptions, all bool, popt pipeline.Options) (*inspectReport, error) {
 	s, f, info, err := piv.OpenSeriesInfo(args, opt)
 	if err != nil {
 		return nil, err
@@ -138,22 +148,51 @@ func inspect(args []string, opt piv.ReadOptions, all bool) (*inspectReport, erro
 	res, rms, nodes := piv.ContinuityResidual(f, div)
 	r.ContinuityResidual, r.DivergenceRMS, r.DivergenceNodes = jf(res), jf(rms), nodes
 	if all {
+		type frameCheck struct{ valid, residual float64 }
 		r.AllFrames = true
 		lo, hi := sum.ValidShare, sum.ValidShare
-		for k := 1; k < s.Len(); k++ {
-			fk, err := s.Frame(k)
-			if err != nil {
-				return nil, err
-			}
-			v := fk.ValidShare()
-			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		rlo, rhi := res, res
+		_, err := pipeline.Run(context.Background(), s, popt,
+			func(_ context.Context, k int, frames pipeline.Frames) (frameCheck, error) {
+				fk, err := frames.Frame(k)
+				if err != nil {
+					return frameCheck{}, err
+				}
+				res, _, _ := piv.ContinuityResidual(fk, vorticity.NewGradient(fk, vorticity.Central).Divergence())
+				return frameCheck{fk.ValidShare(), res}, nil
+			},
+			func(k int, c frameCheck) error {
+				lo, hi = math.Min(lo, c.valid), math.Max(hi, c.valid)
+				if !math.IsNaN(c.residual) {
+					rlo, rhi = nanMin(rlo, c.residual), nanMax(rhi, c.residual)
+				}
+				return nil
+			})
+		if err != nil {
+			return nil, err
 		}
 		r.ValidShareMin, r.ValidShareMax = jf(lo), jf(hi)
+		r.ResidualMin, r.ResidualMax = jf(rlo), jf(rhi)
 	}
 	return r, nil
 }
 
 func jf(v float64) piv.JSONFloat { return piv.JSONFloat(v) }
+
+// nanMin and nanMax ignore a NaN first argument (no value yet).
+func nanMin(a, b float64) float64 {
+	if math.IsNaN(a) {
+		return b
+	}
+	return math.Min(a, b)
+}
+
+func nanMax(a, b float64) float64 {
+	if math.IsNaN(a) {
+		return b
+	}
+	return math.Max(a, b)
+}
 
 func (r *inspectReport) print(w io.Writer) {
 	line := func(label, format string, args ...any) {
@@ -209,6 +248,7 @@ func (r *inspectReport) print(w io.Writer) {
 		line("continuity", "not available (no node has the neighbours for a divergence, or the field is at rest)")
 	}
 	if r.AllFrames {
-		line("all frames", "one grid; valid share %.1f%% .. %.1f%%", 100*float64(r.ValidShareMin), 100*float64(r.ValidShareMax))
+		line("all frames", "one grid; valid share %.1f%% .. %.1f%%; continuity residual %.3g .. %.3g",
+			100*float64(r.ValidShareMin), 100*float64(r.ValidShareMax), r.ResidualMin, r.ResidualMax)
 	}
 }

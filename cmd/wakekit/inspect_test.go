@@ -86,7 +86,7 @@ func TestInspectSeries(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("status %d: %s", code, stderr)
 	}
-	for _, want := range []string{"f_1.csv", "3, dt 0.002 s, t 0 .. 0.004 s", "axisymmetric about y = 0.5 m", "one grid; valid share 100.0% .. 100.0%"} {
+	for _, want := range []string{"f_1.csv", "3, dt 0.002 s, t 0 .. 0.004 s", "axisymmetric about y = 0.5 m", "one grid; valid share 100.0% .. 100.0%; continuity residual 0 .. 0"} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("output lacks %q:\n%s", want, stdout)
 		}
