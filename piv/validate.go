@@ -172,6 +172,7 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	var cu, cv []colKeys
 	var colOK []bool
 	var ku, kv [3][]uint64
+	var kuA, kuC, kvA, kvC []uint64 // keys of the rows above and below the current one
 	if o.Radius == 1 && g.NX >= 3 && g.NY >= 3 {
 		cu, cv = make([]colKeys, nx), make([]colKeys, nx)
 		colOK = make([]bool, nx)
@@ -186,6 +187,7 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 		if fast {
 			keyRow(f, j+1, ku[(j+1)%3], kv[(j+1)%3])
 			prepareColumns(ok, nx, j, &ku, &kv, cu, cv, colOK)
+			kuA, kuC, kvA, kvC = ku[(j-1)%3], ku[(j+1)%3], kv[(j-1)%3], kv[(j+1)%3]
 		}
 		for i := 0; i < g.NX; i++ {
 			k := j*nx + i
@@ -194,8 +196,8 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 			}
 			u0, v0 := f.U[k], f.V[k]
 			if fast && i > 0 && i < nx-1 && colOK[i-1] && colOK[i+1] && ok[k-nx] && ok[k+nx] {
-				um := middle8(&cu[i-1], &cu[i+1], &cu[i])
-				vm := middle8(&cv[i-1], &cv[i+1], &cv[i])
+				um := middle8(&cu[i-1], &cu[i+1], kuA[i], kuC[i])
+				vm := middle8(&cv[i-1], &cv[i+1], kvA[i], kvC[i])
 				a, b, c := k-nx-1, k-1, k+nx-1
 				U, V := f.U[a:c+3:c+3], f.V[a:c+3:c+3]
 				b -= a
@@ -260,9 +262,9 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 }
 
 // colKeys holds, for one grid column and one velocity component, the order keys of the three
-// values in rows j−1, j and j+1 sorted (t), and of the outer two (rows j−1 and j+1) sorted (p).
+// values in rows j−1, j and j+1, sorted.
 type colKeys struct {
-	t0, t1, t2, p0, p1 uint64
+	t0, t1, t2 uint64
 }
 
 // prepareColumns fills the column keys of row j from the order keys of rows j−1, j and j+1
@@ -295,22 +297,23 @@ func sortColumn(a, b, c uint64) colKeys {
 	p0, p1 := min(a, c), max(a, c)
 	t0, t2 := min(p0, b), max(p1, b)
 	t1 := max(p0, min(p1, b))
-	return colKeys{t0, t1, t2, p0, p1}
+	return colKeys{t0, t1, t2}
 }
 
 // middle8 is the median of the eight neighbours of a node: the sorted columns left (l) and
-// right (r) of it and the outer pair of its own column (m). It uses the order statistics of a
+// right (r) of it and the keys above (top) and below (bot) it in its own column. It uses the order statistics of a
 // union of sorted lists, X∪Y[k] = max over a+b = k of min(X[a], Y[b]) (with X[len X] = +∞),
 // first for the six column values (s1..s4) and then with the pair for the 4th and 5th of eight.
-func middle8(l, r, m *colKeys) float64 {
+func middle8(l, r *colKeys, top, bot uint64) float64 {
+	p0, p1 := min(top, bot), max(top, bot)
 	a0, a1, a2 := l.t0, l.t1, l.t2
 	c0, c1, c2 := r.t0, r.t1, r.t2
 	s1 := max(min(a1, c0), min(a0, c1))
 	s2 := max(min(a2, c0), min(a1, c1), min(a0, c2))
 	s3 := max(c0, min(a2, c1), min(a1, c2), a0)
 	s4 := max(c1, min(a2, c2), a1)
-	m3 := max(min(s3, m.p0), min(s2, m.p1), s1)
-	m4 := max(min(s4, m.p0), min(s3, m.p1), s2)
+	m3 := max(min(s3, p0), min(s2, p1), s1)
+	m4 := max(min(s4, p0), min(s3, p1), s2)
 	return 0.5 * (unkey(m3) + unkey(m4))
 }
 

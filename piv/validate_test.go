@@ -94,8 +94,7 @@ func TestSort8ZeroOne(t *testing.T) {
 		sort.Float64s(b)
 		l := sortColumn(key(a[0]), key(a[1]), key(a[2]))
 		r := sortColumn(key(a[3]), key(a[4]), key(a[5]))
-		m := sortColumn(key(a[6]), key(a[0]), key(a[7]))
-		if got, want := middle8(&l, &r, &m), 0.5*(b[3]+b[4]); got != want {
+		if got, want := middle8(&l, &r, key(a[6]), key(a[7])), 0.5*(b[3]+b[4]); got != want {
 			t.Fatalf("middle8(%v) = %g, want %g", a, got, want)
 		}
 	}
@@ -247,6 +246,7 @@ func BenchmarkMedianTest2048(b *testing.B) {
 			f.Set(g.Index(i, j), math.Sin(float64(i)/40)+0.05*rng.NormFloat64(), math.Cos(float64(j)/30)+0.05*rng.NormFloat64())
 		}
 	}
+	// ε equal to the noise level, as for 0.1-px noise with the published ε = 0.1 px.
 	work := f.Clone()
 	var cpu int64
 	b.ResetTimer()
@@ -258,7 +258,7 @@ func BenchmarkMedianTest2048(b *testing.B) {
 		copy(work.Status, f.Status)
 		b.StartTimer()
 		c0 := processCPU()
-		if _, err := MedianTest(work, MedianOptions{Epsilon: 0.01}); err != nil {
+		if _, err := MedianTest(work, MedianOptions{Epsilon: 0.05}); err != nil {
 			b.Fatal(err)
 		}
 		cpu += processCPU() - c0
