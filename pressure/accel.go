@@ -82,7 +82,8 @@ func (o AccelOptions) Halo() int {
 	case Steady:
 		return 0
 	case Lagrangian:
-		return o.track()
+		// The Eulerian fallback at the series ends reads two frames on one side.
+		return max(o.track(), 2)
 	}
 	return 2
 }

@@ -77,10 +77,9 @@ func (e Edges) String() string {
 // five-point Laplacian with 1/DX^2 and 1/DY^2 weights.
 type system struct {
 	nx, ny int
-	// cx[k] couples node k=(i,j) with (i+1,j); cy[k] couples k with (i,j+1). Zero where either
-	// node is not active.
+	// cx[k] couples node k=(i,j) with (i+1,j); cy[k] couples k with (i,j+1). Zero unless both
+	// nodes are unknowns (couplings to fixed nodes live in diag and b).
 	cx, cy []float64
-	// cxFull and cyFull hold the same couplings including those to fixed nodes.
 	active []bool    // node has a pressure (unknown or fixed)
 	fixed  []bool    // node value is known (Dirichlet or pin)
 	val    []float64 // values of fixed nodes

@@ -235,3 +235,15 @@ func TestPressureMask(t *testing.T) {
 		t.Errorf("masked: error %.3g%% of ρU²", 100*worst/rng)
 	}
 }
+
+// TestPressureLagrangianTrack1 runs the Lagrangian method with one frame each way through the
+// frame window (the Eulerian fallback at the ends needs two).
+func TestPressureLagrangianTrack1(t *testing.T) {
+	dir := t.TempDir()
+	paths := writePressureSeries(t, dir, 4, 0.002, nil)
+	code, _, stderr := runCapture(append([]string{"pressure", "--dt", "0.002", "--method", "lagrangian", "--track", "1",
+		"--out", filepath.Join(dir, "out"), "-q"}, paths...)...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+}
