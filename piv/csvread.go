@@ -687,12 +687,12 @@ func (c *csvReader) status(cell []byte) (Status, error) {
 
 // lineOf returns the file line of data row r.
 func (c *csvReader) lineOf(r int) int {
-	b := sort0(c.lines, r)
+	b := lastBreak(c.lines, r)
 	return c.lines[b].line + r - c.lines[b].row
 }
 
-// sort0 returns the last break at or before row r.
-func sort0(lines []lineBreak, r int) int {
+// lastBreak returns the last break at or before row r.
+func lastBreak(lines []lineBreak, r int) int {
 	lo, hi := 0, len(lines)-1
 	for lo < hi {
 		mid := (lo + hi + 1) / 2
