@@ -335,11 +335,20 @@ func vectorResidualN(u0, v0 float64, nu, nv []float64, eps float64) float64 {
 	um := median(d[:len(nu)])
 	copy(d[:], nv)
 	vm := median(d[:len(nv)])
+	n := len(nu)
 	for q := range nu {
 		du, dv := nu[q]-um, nv[q]-vm
-		d[q] = math.Sqrt(du*du + dv*dv)
+		d[q] = du*du + dv*dv // squared: same order, square roots only for the middle pair
 	}
-	rm := median(d[:len(nu)])
+	hi := selectK(d[:n], n/2)
+	rm := math.Sqrt(hi)
+	if n%2 == 0 {
+		lo := d[0]
+		for _, v := range d[1 : n/2] {
+			lo = max(lo, v)
+		}
+		rm = 0.5 * (math.Sqrt(lo) + rm)
+	}
 	du0, dv0 := u0-um, v0-vm
 	return math.Sqrt(du0*du0+dv0*dv0) / (rm + eps)
 }
@@ -354,22 +363,63 @@ func residualN(x0 float64, a []float64, eps float64) float64 {
 	return math.Abs(x0-m) / (rm + eps)
 }
 
-// median sorts a (small, NaN-free) in place by insertion and returns its median.
+// median returns the median of a (small, NaN-free), reordering it: Hoare's selection
+// algorithm (FIND, Hoare 1961) places the upper middle element, with every smaller element
+// before it, so the lower middle of an even count is the largest of those.
 func median(a []float64) float64 {
-	for p := 1; p < len(a); p++ {
-		x := a[p]
-		q := p - 1
-		for q >= 0 && a[q] > x {
-			a[q+1] = a[q]
-			q--
-		}
-		a[q+1] = x
-	}
 	n := len(a)
+	m := selectK(a, n/2)
 	if n%2 == 1 {
-		return a[n/2]
+		return m
 	}
-	return 0.5 * (a[n/2-1] + a[n/2])
+	lo := a[0]
+	for _, v := range a[1 : n/2] {
+		lo = max(lo, v)
+	}
+	return 0.5 * (lo + m)
+}
+
+// selectK reorders a so that a[k] is its k-th smallest element (from 0), every element before
+// it no larger and every element after it no smaller, and returns a[k].
+func selectK(a []float64, k int) float64 {
+	lo, hi := 0, len(a)-1
+	for lo < hi {
+		mid := (lo + hi) / 2
+		// Median-of-three pivot.
+		if a[mid] < a[lo] {
+			a[mid], a[lo] = a[lo], a[mid]
+		}
+		if a[hi] < a[lo] {
+			a[hi], a[lo] = a[lo], a[hi]
+		}
+		if a[hi] < a[mid] {
+			a[hi], a[mid] = a[mid], a[hi]
+		}
+		p := a[mid]
+		i, j := lo, hi
+		for i <= j {
+			for a[i] < p {
+				i++
+			}
+			for a[j] > p {
+				j--
+			}
+			if i <= j {
+				a[i], a[j] = a[j], a[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return a[k]
+		}
+	}
+	return a[k]
 }
 
 // mid8 returns the two middle values (4th and 5th smallest, in either order) of eight keys. It

@@ -350,3 +350,47 @@ func TestMedianTestMatchesReference(t *testing.T) {
 		}
 	}
 }
+
+func BenchmarkMedianTest5x5(b *testing.B) {
+	// The 5x5 neighbourhood takes the general path (insertion sorts of up to 24 values).
+	g := Grid{NX: 512, NY: 512, DX: 1, DY: 1}
+	f := NewField(g)
+	rng := rand.New(rand.NewPCG(3, 4))
+	for k := range f.U {
+		i, j := g.IJ(k)
+		f.Set(k, math.Sin(float64(i)/40)+0.05*rng.NormFloat64(), math.Cos(float64(j)/30)+0.05*rng.NormFloat64())
+	}
+	work := f.Clone()
+	for b.Loop() {
+		b.StopTimer()
+		copy(work.U, f.U)
+		copy(work.V, f.V)
+		copy(work.Status, f.Status)
+		b.StartTimer()
+		if _, err := MedianTest(work, MedianOptions{Radius: 2, Epsilon: 0.05}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(g.N()), "ns/node")
+}
+
+func TestMedianSelection(t *testing.T) {
+	// Against sort.Float64s on random lists of 1 to 24 values, with ties.
+	rng := rand.New(rand.NewPCG(5, 6))
+	for trial := 0; trial < 5000; trial++ {
+		n := 1 + rng.IntN(24)
+		a := make([]float64, n)
+		for q := range a {
+			a[q] = float64(rng.IntN(7)) + 0.1*rng.NormFloat64()*float64(rng.IntN(2))
+		}
+		b := append([]float64(nil), a...)
+		sort.Float64s(b)
+		want := b[n/2]
+		if n%2 == 0 {
+			want = 0.5 * (b[n/2-1] + b[n/2])
+		}
+		if got := median(a); got != want {
+			t.Fatalf("median of %v = %g, want %g", b, got, want)
+		}
+	}
+}
