@@ -246,3 +246,43 @@ func rmsOffsetErr(p, ref []float64) float64 {
 type badTimes struct{ *piv.Series }
 
 func (b badTimes) Time(k int) float64 { return -float64(k) }
+
+// TestManyRegions checks that each disconnected region gets its own level (mean p∞) and that
+// the cost stays linear: a grid cut into 400 islands by missing lines.
+func TestManyRegions(t *testing.T) {
+	g, exact, gx, gy := manufacturedGrid(200, 0)
+	for k := range gx {
+		i, j := g.IJ(k)
+		if i%10 == 9 || j%10 == 9 {
+			gx[k], gy[k] = math.NaN(), math.NaN()
+		}
+	}
+	for _, solver := range []Solver{Multigrid, Paths} {
+		res, err := Integrate(g, piv.Geometry{}, gx, gy, Options{Solver: solver, PInf: 3, Tol: 1e-10})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.Components != 400 {
+			t.Fatalf("%v: %d regions, want 400", solver, res.Components)
+		}
+		// Island (0,0): mean 3, and the shape of the exact pressure (second-order error of a
+		// 9x9 island at h = 1/200, well below 1e-4).
+		var sum, sumE float64
+		for j := 0; j < 9; j++ {
+			for i := 0; i < 9; i++ {
+				sum += res.P[g.Index(i, j)] / 81
+				sumE += exact[g.Index(i, j)] / 81
+			}
+		}
+		worst := 0.0
+		for j := 0; j < 9; j++ {
+			for i := 0; i < 9; i++ {
+				k := g.Index(i, j)
+				worst = math.Max(worst, math.Abs(res.P[k]-sum-(exact[k]-sumE)))
+			}
+		}
+		if math.Abs(sum-3) > 1e-9 || worst > 1e-4 {
+			t.Errorf("%v: island mean %g (want 3), shape error %g", solver, sum, worst)
+		}
+	}
+}

@@ -13,13 +13,7 @@ import (
 // spirit of Liu & Katz 2006, Exp. Fluids 41:227). The level is set afterwards by the caller.
 func integratePaths(g piv.Grid, gx, gy []float64, active []bool) []float64 {
 	n := g.N()
-	label := connected(g, active)
-	nc := 0
-	for _, l := range label {
-		if l+1 > nc {
-			nc = l + 1
-		}
-	}
+	label, nc := connected(g, active)
 	sum := make([]float64, n)
 	p := make([]float64, n)
 	seen := make([]bool, n)

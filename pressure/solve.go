@@ -307,7 +307,10 @@ func (s *system) residual(p []float64) float64 {
 }
 
 // fixLevel sets the additive constant of each connected region of p that the Dirichlet values
-// do not determine, and writes the fixed values. It returns the number of regions.
+// do not determine, and writes the fixed values. It returns the number of regions. Each region
+// is shifted so that it matches the mean of its prescribed values (level-only references and
+// the path integrator), else the reference point when it lies in the region, else so that its
+// volume-weighted mean is PInf. Cost O(N) whatever the number of regions.
 func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree bool) int {
 	if !allFree {
 		for k := range p {
@@ -316,61 +319,61 @@ func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree
 			}
 		}
 	}
-	label := connected(g, s.active)
-	nc := 0
-	for _, l := range label {
-		if l+1 > nc {
-			nc = l + 1
+	label, nc := connected(g, s.active)
+	determined := make([]bool, nc)
+	target := make([]float64, nc)
+	have := make([]float64, nc)
+	wsum := make([]float64, nc)
+	if fixedVal != nil {
+		for k, l := range label {
+			if l < 0 || math.IsNaN(fixedVal[k]) {
+				continue
+			}
+			if !allFree && !opt.LevelOnly {
+				determined[l] = true
+			}
+			target[l] += fixedVal[k]
+			have[l] += p[k]
+			wsum[l]++
+		}
+	} else if opt.RefPoint {
+		// The region of the node nearest to the reference point.
+		fi, fj := g.Frac(opt.RefX, opt.RefY)
+		i, j := int(math.Round(fi)), int(math.Round(fj))
+		if g.In(i, j) {
+			if c := label[g.Index(i, j)]; c >= 0 {
+				if pr := piv.Sample(g, maskNaN(p, label, c), opt.RefX, opt.RefY, piv.Bilinear); !math.IsNaN(pr) {
+					target[c], have[c], wsum[c] = opt.PInf, pr, 1
+				}
+			}
 		}
 	}
-	for c := 0; c < nc; c++ {
-		determined := false
-		if !allFree && !opt.LevelOnly && fixedVal != nil {
-			for k, l := range label {
-				if l == c && !math.IsNaN(fixedVal[k]) {
-					determined = true
-					break
+	// Regions still without a level: volume-weighted mean equal to PInf.
+	var mean, mw []float64
+	for c := range wsum {
+		if wsum[c] == 0 && !determined[c] {
+			if mean == nil {
+				mean, mw = make([]float64, nc), make([]float64, nc)
+				for k, l := range label {
+					if l >= 0 {
+						w := s.row[k/s.nx]
+						mean[l] += w * p[k]
+						mw[l] += w
+					}
 				}
 			}
+			target[c], have[c], wsum[c] = opt.PInf*mw[c], mean[c], mw[c]
 		}
-		if determined {
-			continue
+	}
+	shift := make([]float64, nc)
+	for c := range shift {
+		if !determined[c] && wsum[c] > 0 {
+			shift[c] = (target[c] - have[c]) / wsum[c]
 		}
-		var target, have, wsum float64
-		switch {
-		case fixedVal != nil:
-			// Match the mean over the prescribed nodes of this region.
-			for k, l := range label {
-				if l == c && !math.IsNaN(fixedVal[k]) {
-					target += fixedVal[k]
-					have += p[k]
-					wsum++
-				}
-			}
-		case opt.RefPoint:
-			if pr := piv.Sample(g, maskNaN(p, label, c), opt.RefX, opt.RefY, piv.Bilinear); !math.IsNaN(pr) {
-				target, have, wsum = opt.PInf, pr, 1
-			}
-		}
-		if wsum == 0 {
-			// Mean of the region (volume-weighted) equals PInf.
-			for k, l := range label {
-				if l == c {
-					w := s.row[k/s.nx]
-					have += w * p[k]
-					wsum += w
-				}
-			}
-			target = opt.PInf * wsum
-		}
-		if wsum == 0 {
-			continue
-		}
-		shift := (target - have) / wsum
-		for k, l := range label {
-			if l == c {
-				p[k] += shift
-			}
+	}
+	for k, l := range label {
+		if l >= 0 {
+			p[k] += shift[l]
 		}
 	}
 	return nc
@@ -389,8 +392,9 @@ func maskNaN(p []float64, label []int, c int) []float64 {
 	return q
 }
 
-// connected labels the 4-connected regions of active nodes (-1 elsewhere).
-func connected(g piv.Grid, active []bool) []int {
+// connected labels the 4-connected regions of active nodes (-1 elsewhere) and returns the
+// number of regions.
+func connected(g piv.Grid, active []bool) ([]int, int) {
 	label := make([]int, len(active))
 	all := true
 	for k := range label {
@@ -401,7 +405,7 @@ func connected(g piv.Grid, active []bool) []int {
 		for k := range label {
 			label[k] = 0
 		}
-		return label
+		return label, 1
 	}
 	id := 0
 	var stack []int
@@ -427,5 +431,5 @@ func connected(g piv.Grid, active []bool) []int {
 		}
 		id++
 	}
-	return label
+	return label, id
 }
