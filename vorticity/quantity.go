@@ -214,8 +214,15 @@ func (g *Gradient) row(q Quantity, j int, out []float64) {
 		}
 	case QLambda2:
 		if !axi {
+			// lambda2 with a zero third eigenvalue, written out so the loop needs no call.
 			for i := range out {
-				out[i] = lambda2(a[i], b[i], c[i], d[i], 0)
+				s, w := (b[i]+c[i])/2, (b[i]-c[i])/2
+				m11 := a[i]*a[i] + s*s - w*w
+				m22 := s*s + d[i]*d[i] - w*w
+				m12 := s * (a[i] + d[i])
+				mean, e := (m11+m22)/2, (m11-m22)/2
+				rad := math.Sqrt(e*e + m12*m12)
+				out[i] = max(mean-rad, min(mean+rad, 0))
 			}
 			return
 		}
