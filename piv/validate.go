@@ -167,15 +167,12 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	thr, eps := o.Threshold, o.Epsilon
 	var nu, nv [24]float64
 	nx := g.NX
-	// Column data for the 3×3 fast path of the current row: for every column, the order keys of
-	// its three values (rows j−1, j, j+1) sorted, and of its outer two sorted, for u and v.
-	var cu, cv []colKeys
-	var colOK []bool
+	// The 3×3 fast path keeps the order keys of three rows (j−1, j, j+1) in a ring, and the
+	// sorted columns left of, at and right of the current node in registers as it moves along
+	// the row, so each column is sorted once.
+	threeByThree := o.Radius == 1 && g.NX >= 3 && g.NY >= 3
 	var ku, kv [3][]uint64
-	var kuA, kuC, kvA, kvC []uint64 // keys of the rows above and below the current one
-	if o.Radius == 1 && g.NX >= 3 && g.NY >= 3 {
-		cu, cv = make([]colKeys, nx), make([]colKeys, nx)
-		colOK = make([]bool, nx)
+	if threeByThree {
 		for r := range ku {
 			ku[r], kv[r] = make([]uint64, nx), make([]uint64, nx)
 		}
@@ -183,21 +180,46 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 		keyRow(f, 1, ku[1], kv[1])
 	}
 	for j := 0; j < g.NY; j++ {
-		fast := colOK != nil && j > 0 && j < g.NY-1
+		fast := threeByThree && j > 0 && j < g.NY-1
+		var col func(i int) (colKeys, colKeys, bool)
+		var kuA, kuC, kvA, kvC []uint64 // keys of the rows above and below
+		var uL, uC, uR, vL, vC, vR colKeys
+		var okL, okC, okR bool
 		if fast {
 			keyRow(f, j+1, ku[(j+1)%3], kv[(j+1)%3])
-			prepareColumns(ok, nx, j, &ku, &kv, cu, cv, colOK)
 			kuA, kuC, kvA, kvC = ku[(j-1)%3], ku[(j+1)%3], kv[(j-1)%3], kv[(j+1)%3]
+			kuB, kvB := ku[j%3], kv[j%3]
+			oa, ob, oc := ok[(j-1)*nx:j*nx], ok[j*nx:(j+1)*nx], ok[(j+1)*nx:(j+2)*nx]
+			col = func(i int) (colKeys, colKeys, bool) {
+				if !(oa[i] && ob[i] && oc[i]) {
+					return colKeys{}, colKeys{}, false
+				}
+				return sortColumn(kuA[i], kuB[i], kuC[i]), sortColumn(kvA[i], kvB[i], kvC[i]), true
+			}
+			uC, vC, okC = col(0)
+			uR, vR, okR = col(1)
 		}
 		for i := 0; i < g.NX; i++ {
+			if fast && i > 0 {
+				uL, vL, okL = uC, vC, okC
+				uC, vC, okC = uR, vR, okR
+				if i+1 < nx {
+					uR, vR, okR = col(i + 1)
+				}
+			}
 			k := j*nx + i
 			if !ok[k] {
 				continue
 			}
 			u0, v0 := f.U[k], f.V[k]
-			if fast && i > 0 && i < nx-1 && colOK[i-1] && colOK[i+1] && ok[k-nx] && ok[k+nx] {
-				um := middle8(&cu[i-1], &cu[i+1], kuA[i], kuC[i])
-				vm := middle8(&cv[i-1], &cv[i+1], kvA[i], kvC[i])
+			if fast && i > 0 && i < nx-1 && okL && okR && ok[k-nx] && ok[k+nx] {
+				um := middle8(&uL, &uR, kuA[i], kuC[i])
+				vm := middle8(&vL, &vR, kvA[i], kvC[i])
+				du0, dv0 := u0-um, v0-vm
+				d0 := du0*du0 + dv0*dv0
+				if !o.PerComponent && d0 <= thr*thr*eps*eps {
+					continue // |Δ0| ≤ thr·ε ≤ thr·(r_m + ε): passes whatever the residuals
+				}
 				a, b, c := k-nx-1, k-1, k+nx-1
 				U, V := f.U[a:c+3:c+3], f.V[a:c+3:c+3]
 				b -= a
@@ -214,8 +236,6 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 					return math.Float64bits(du*du + dv*dv)
 				}
 				lo, hi := mid8(d(0), d(1), d(2), d(b), d(b+2), d(c), d(c+1), d(c+2))
-				du0, dv0 := u0-um, v0-vm
-				d0 := du0*du0 + dv0*dv0
 				// Since r_m ≥ √lo, (r_m + ε)² ≥ lo + ε²: a vector within thr²·(lo + ε²) passes
 				// without the square roots, which most good vectors do.
 				lo, hi = min(lo, hi), max(lo, hi) // mid8 leaves the pair unordered
@@ -265,22 +285,6 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 // values in rows j−1, j and j+1, sorted.
 type colKeys struct {
 	t0, t1, t2 uint64
-}
-
-// prepareColumns fills the column keys of row j from the order keys of rows j−1, j and j+1
-// (ku, kv: three rows in a ring indexed by row mod 3) and says which columns have all three
-// nodes valid. Each column is sorted once per row and used by the two nodes beside it.
-func prepareColumns(ok []bool, nx, j int, ku, kv *[3][]uint64, cu, cv []colKeys, colOK []bool) {
-	ua, ub, uc := ku[(j-1)%3], ku[j%3], ku[(j+1)%3]
-	va, vb, vc := kv[(j-1)%3], kv[j%3], kv[(j+1)%3]
-	oa, ob, oc := ok[(j-1)*nx:j*nx], ok[j*nx:(j+1)*nx], ok[(j+1)*nx:(j+2)*nx]
-	for i := range colOK {
-		colOK[i] = oa[i] && ob[i] && oc[i]
-		if colOK[i] {
-			cu[i] = sortColumn(ua[i], ub[i], uc[i])
-			cv[i] = sortColumn(va[i], vb[i], vc[i])
-		}
-	}
 }
 
 // keyRow stores the order keys of row j's velocities (NaN-free only where valid; the keys of
