@@ -181,30 +181,30 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	}
 	for j := 0; j < g.NY; j++ {
 		fast := threeByThree && j > 0 && j < g.NY-1
-		var col func(i int) (colKeys, colKeys, bool)
-		var kuA, kuC, kvA, kvC []uint64 // keys of the rows above and below
+		var kuA, kuB, kuC, kvA, kvB, kvC []uint64 // keys of the rows above, at and below
+		var oa, ob, oc []bool
 		var uL, uC, uR, vL, vC, vR colKeys
 		var okL, okC, okR bool
 		if fast {
 			keyRow(f, j+1, ku[(j+1)%3], kv[(j+1)%3])
-			kuA, kuC, kvA, kvC = ku[(j-1)%3], ku[(j+1)%3], kv[(j-1)%3], kv[(j+1)%3]
-			kuB, kvB := ku[j%3], kv[j%3]
-			oa, ob, oc := ok[(j-1)*nx:j*nx], ok[j*nx:(j+1)*nx], ok[(j+1)*nx:(j+2)*nx]
-			col = func(i int) (colKeys, colKeys, bool) {
-				if !(oa[i] && ob[i] && oc[i]) {
-					return colKeys{}, colKeys{}, false
-				}
-				return sortColumn(kuA[i], kuB[i], kuC[i]), sortColumn(kvA[i], kvB[i], kvC[i]), true
+			kuA, kuB, kuC = ku[(j-1)%3], ku[j%3], ku[(j+1)%3]
+			kvA, kvB, kvC = kv[(j-1)%3], kv[j%3], kv[(j+1)%3]
+			oa, ob, oc = ok[(j-1)*nx:j*nx], ok[j*nx:(j+1)*nx], ok[(j+1)*nx:(j+2)*nx]
+			if okC = oa[0] && ob[0] && oc[0]; okC {
+				uC, vC = sortColumn(kuA[0], kuB[0], kuC[0]), sortColumn(kvA[0], kvB[0], kvC[0])
 			}
-			uC, vC, okC = col(0)
-			uR, vR, okR = col(1)
+			if okR = oa[1] && ob[1] && oc[1]; okR {
+				uR, vR = sortColumn(kuA[1], kuB[1], kuC[1]), sortColumn(kvA[1], kvB[1], kvC[1])
+			}
 		}
 		for i := 0; i < g.NX; i++ {
 			if fast && i > 0 {
 				uL, vL, okL = uC, vC, okC
 				uC, vC, okC = uR, vR, okR
-				if i+1 < nx {
-					uR, vR, okR = col(i + 1)
+				if n := i + 1; n < nx {
+					if okR = oa[n] && ob[n] && oc[n]; okR {
+						uR, vR = sortColumn(kuA[n], kuB[n], kuC[n]), sortColumn(kvA[n], kvB[n], kvC[n])
+					}
 				}
 			}
 			k := j*nx + i
