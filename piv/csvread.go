@@ -841,7 +841,8 @@ func (c *csvReader) axis(vals []float64, s int) (x0, h float64, n int, err error
 		m := int(math.Round(cells))
 		h = span / float64(m)
 		if c.onLattice(vals, lo, h) < 0 {
-			return lo, h, m + 1, nil
+			x0, h = fitLattice(vals, lo, h)
+			return x0, h, m + 1, nil
 		}
 	}
 	return c.axisSlow(vals, s, lo, hi)
@@ -912,7 +913,39 @@ func (c *csvReader) axisSlow(vals []float64, s int, lo, hi float64) (x0, h float
 			"point off the grid: %s = %g m lies %.2f spacings from the nearest line of the best-fitting grid (spacing %.6g m from %.6g m)",
 			name, d[worst], dev/hh, hh, a)
 	}
-	return lo, h, idx + 1, nil
+	x0, h = fitLattice(vals, lo, h)
+	return x0, h, idx + 1, nil
+}
+
+// fitLattice refines a lattice lo + i*h that every coordinate is known to lie near by a least-
+// squares fit of x = x0 + i*h over all rows, so that coordinates printed with few digits give the
+// spacing to far better than their rounding (the extreme coordinates alone carry it fully).
+// Coordinates already on the lattice to round-off keep it exactly.
+func fitLattice(vals []float64, lo, h float64) (x0, hFit float64) {
+	inv := 1 / h
+	var si, sii, sx, six, worst float64
+	for _, v := range vals {
+		d := v - lo
+		i := math.Round(d * inv)
+		si += i
+		sii += i * i
+		sx += d
+		six += i * d
+		worst = math.Max(worst, math.Abs(d-i*h))
+	}
+	if worst <= 1e-9*h {
+		return lo, h
+	}
+	n := float64(len(vals))
+	den := n*sii - si*si
+	if !(den > 0) {
+		return lo, h
+	}
+	hFit = (n*six - si*sx) / den
+	if !(math.Abs(hFit-h) < latticeTol*h) {
+		return lo, h
+	}
+	return lo + (sx-hFit*si)/n, hFit
 }
 
 func minMax(v []float64) (lo, hi float64) {
