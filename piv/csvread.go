@@ -917,35 +917,29 @@ func (c *csvReader) axisSlow(vals []float64, s int, lo, hi float64) (x0, h float
 	return x0, h, idx + 1, nil
 }
 
-// fitLattice refines a lattice lo + i*h that every coordinate is known to lie near by a least-
-// squares fit of x = x0 + i*h over all rows, so that coordinates printed with few digits give the
-// spacing to far better than their rounding (the extreme coordinates alone carry it fully).
-// Coordinates already on the lattice to round-off keep it exactly.
+// fitLattice refines the spacing of a lattice lo + i*h that every coordinate is known to lie
+// near, by a least-squares fit of x - lo = i*h over all rows (origin kept at the smallest
+// coordinate, as the file prints it), so that coordinates printed with few digits give the
+// spacing far better than the extreme coordinates alone. Coordinates already on the lattice
+// to round-off keep it exactly.
 func fitLattice(vals []float64, lo, h float64) (x0, hFit float64) {
 	inv := 1 / h
-	var si, sii, sx, six, worst float64
+	var sii, six, worst float64
 	for _, v := range vals {
 		d := v - lo
 		i := math.Round(d * inv)
-		si += i
 		sii += i * i
-		sx += d
 		six += i * d
 		worst = math.Max(worst, math.Abs(d-i*h))
 	}
-	if worst <= 1e-9*h {
+	if worst <= 1e-9*h || !(sii > 0) {
 		return lo, h
 	}
-	n := float64(len(vals))
-	den := n*sii - si*si
-	if !(den > 0) {
-		return lo, h
-	}
-	hFit = (n*six - si*sx) / den
+	hFit = six / sii
 	if !(math.Abs(hFit-h) < latticeTol*h) {
 		return lo, h
 	}
-	return lo + (sx-hFit*si)/n, hFit
+	return lo, hFit
 }
 
 func minMax(v []float64) (lo, hi float64) {

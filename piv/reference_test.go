@@ -45,6 +45,7 @@ func TestReadReferenceSeries(t *testing.T) {
 		math.Abs(g.X0-grid.X0) > tol || math.Abs(g.Y0-grid.R0) > tol {
 		t.Fatalf("series of %d frames on %v (%v %v %v %v); grid.json says %+v", s.Len(), g, g.DX, g.DY, g.X0, g.Y0, grid)
 	}
+	t.Logf("spacing error %.2g of h, origin error %.2g of h", (g.DX-grid.H)/grid.H, (g.X0-grid.X0)/grid.H)
 	if info.Columns[1] != "r" || !f.Geometry.Axisymmetric || f.ValidShare() != 1 {
 		t.Errorf("columns %v, geometry %v, valid share %v", info.Columns, f.Geometry, f.ValidShare())
 	}
