@@ -29,5 +29,5 @@
 // Taylor–Green error grows to an RMS of at most 2.5% of the pressure range and a maximum of at
 // most 15%, found at the edges where one-sided differences amplify the noise (Eulerian and
 // Lagrangian alike; the interior maximum is about 5%). On the axisymmetric starting-jet CFD
-// reference the exit pressure force is within 2% RMS of the solver's (2.6% with 1% noise).
+// reference the exit pressure force is within 1.9% RMS of the solver's (2.5% with 1% noise).
 package pressure

@@ -63,11 +63,14 @@ type ExitForces struct {
 
 // ExitProfile evaluates the exit-plane profiles and forces of field f with pressure p and
 // pressure gradient x-component gx. The exit plane need not coincide with a grid column: the
-// pressure of the nearest column is carried to X by the trapezoidal integral of ∂p/∂x (linearly
-// extrapolated from that column and its inner neighbour), and the velocity is extrapolated
-// linearly from the same two columns. The radial integrals use each row's cell (one spacing
-// wide, cut at the axis and at the radius) weighted by r in axisymmetric geometry; with rows
-// on both sides of the axis the two halves are averaged. pInf is the reference pressure.
+// pressure of the nearest column is carried to X with that column's measured gradient,
+// p(X) = p_i + (X − x_i) ∂p/∂x|_i (at most half a spacing, or one spacing outside the field);
+// extrapolating the gradient itself would amplify the error of the one-sided differences at an
+// edge of the data, in thin exit shear layers and with noise. The velocity is taken from the
+// same column (the exit profile changes little over half a spacing, and extrapolating it has
+// the same drawback). The radial integrals use each row's cell (one spacing wide, cut at the
+// axis and at the radius) weighted by r in axisymmetric geometry; with rows on both sides of
+// the axis the two halves are averaged. pInf is the reference pressure.
 func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*ExitForces, error) {
 	g := f.Grid
 	if err := e.Check(g); err != nil {
@@ -79,10 +82,6 @@ func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*Exi
 	}
 	if i > g.NX-1 {
 		i = g.NX - 1
-	}
-	inner := i + 1 // neighbour column used for extrapolation, towards the field
-	if e.X > g.X(i) || inner >= g.NX {
-		inner = i - 1
 	}
 	d := e.X - g.X(i)
 	ex := &ExitForces{Time: f.Time, Column: i, Carried: d}
@@ -103,15 +102,7 @@ func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*Exi
 			ue = math.NaN()
 		}
 		if d != 0 {
-			if inner >= 0 && inner < g.NX {
-				kn := g.Index(inner, j)
-				slopeG := (gx[kn] - gx[k]) / (g.X(inner) - g.X(i))
-				gE := gx[k] + d*slopeG
-				pe += d * (gx[k] + gE) / 2
-				ue += d * (f.U[kn] - f.U[k]) / (g.X(inner) - g.X(i))
-			} else {
-				pe += d * gx[k]
-			}
+			pe += d * gx[k]
 		}
 		if math.Abs(r) < e.Radius {
 			ex.Y = append(ex.Y, g.Y(j))
@@ -173,7 +164,7 @@ func rowWeight(r, dy, R float64, axi bool) float64 {
 }
 
 // ExitFlux returns the volume flux through the exit of field f: 2π∫u r dr (planar ∫u dy) with
-// the velocity carried to the exit plane as in ExitProfile. It is the source strength of the
+// the velocity of the column nearest to the exit plane, as in ExitProfile. It is the source strength of the
 // far-field reference model.
 func ExitFlux(f *piv.Field, e Exit) (float64, error) {
 	zero := make([]float64, f.Grid.N())

@@ -52,8 +52,8 @@ auto (transform when it applies, else multigrid).
 Nozzle exit: --exit X and --nozzle-radius R give per-frame exit forces: momentum flux
 2 pi rho int u^2 r dr, pressure force 2 pi int (p - p_inf) r dr and their sum (planar: per unit
 depth, over the slot of half-width R). The exit plane need not be a grid column: the pressure
-of the nearest column is carried to X with the known gradient and the velocity extrapolated
-from the two nearest columns (the distance is reported). --nozzle X,R_IN,R_OUT marks the
+of the nearest column is carried to X with that column's measured gradient and the velocity is
+taken from that column (the distance is reported). --nozzle X,R_IN,R_OUT marks the
 nozzle wall (x <= X, R_IN <= |y - axis| <= R_OUT) as solid in every frame; --mask FILE does
 the same for the nodes a file on the same grid marks solid in its status column. --rest-at T says the
 fluid was at rest at time T before the first frame (a start from rest), so that the first
