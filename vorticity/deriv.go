@@ -176,20 +176,26 @@ func Deriv(g piv.Grid, s []float64, scheme Scheme, dx, dy []float64, st []Stenci
 // full stencil also needs the neighbouring lines: o is the node's position across (of m, ostep
 // apart). s[k] must not be NaN.
 func along(s []float64, k, i, n, step int, inv float64, scheme Scheme, o, m, ostep int) (float64, StencilKind) {
-	var p1, m1, p2, m2 float64
 	nan := math.NaN()
-	p1, m1, p2, m2 = nan, nan, nan, nan
+	// The second neighbours are read only when a stencil needs them (they may not be in cache).
+	p2 := func() float64 {
+		if i+2 < n {
+			return s[k+2*step]
+		}
+		return nan
+	}
+	m2 := func() float64 {
+		if i >= 2 {
+			return s[k-2*step]
+		}
+		return nan
+	}
+	p1, m1 := nan, nan
 	if i+1 < n {
 		p1 = s[k+step]
-		if i+2 < n {
-			p2 = s[k+2*step]
-		}
 	}
 	if i >= 1 {
 		m1 = s[k-step]
-		if i >= 2 {
-			m2 = s[k-2*step]
-		}
 	}
 	hasP1, hasM1 := p1 == p1, m1 == m1
 	if hasP1 && hasM1 {
@@ -197,12 +203,12 @@ func along(s []float64, k, i, n, step int, inv float64, scheme Scheme, o, m, ost
 		case Central:
 			return (p1 - m1) * (inv / 2), StencilFull
 		case Richardson:
-			if p2 == p2 && m2 == m2 {
-				return (m2 - 8*m1 + 8*p1 - p2) * (inv / 12), StencilFull
+			if q, r := p2(), m2(); q == q && r == r {
+				return (r - 8*m1 + 8*p1 - q) * (inv / 12), StencilFull
 			}
 		case LeastSquares:
-			if p2 == p2 && m2 == m2 {
-				return (2*(p2-m2) + p1 - m1) * (inv / 10), StencilFull
+			if q, r := p2(), m2(); q == q && r == r {
+				return (2*(q-r) + p1 - m1) * (inv / 10), StencilFull
 			}
 		case Circulation:
 			if o >= 1 && o < m-1 {
@@ -215,14 +221,16 @@ func along(s []float64, k, i, n, step int, inv float64, scheme Scheme, o, m, ost
 		}
 		return (p1 - m1) * (inv / 2), StencilCentral
 	}
-	switch {
-	case hasP1 && p2 == p2:
-		return (-3*s[k] + 4*p1 - p2) * (inv / 2), StencilOneSided
-	case hasM1 && m2 == m2:
-		return (3*s[k] - 4*m1 + m2) * (inv / 2), StencilOneSided
-	case hasP1:
+	if hasP1 {
+		if q := p2(); q == q {
+			return (-3*s[k] + 4*p1 - q) * (inv / 2), StencilOneSided
+		}
 		return (p1 - s[k]) * inv, StencilFirstOrder
-	case hasM1:
+	}
+	if hasM1 {
+		if r := m2(); r == r {
+			return (3*s[k] - 4*m1 + r) * (inv / 2), StencilOneSided
+		}
 		return (s[k] - m1) * inv, StencilFirstOrder
 	}
 	return nan, StencilNone

@@ -21,13 +21,19 @@ func consistent(st piv.Status, u, v float64) bool {
 // neighbours is a usable-status node with a NaN velocity. The fast loops check only the
 // centre's status and whether the stencil produced a NaN; such a neighbour makes the stencil
 // NaN, so the node takes the fallback path, which calls this and finds it. (Unusable-status
-// nodes with finite values are found when they are the centre.)
-func consistentAround(stat []piv.Status, u, v []float64, k, i, j, nx, ny int) bool {
+// nodes with finite values are found when they are the centre.) Only the components the fast
+// stencils read are examined: u and v along x when xu and xv, along y when yu and yv.
+func consistentAround(stat []piv.Status, u, v []float64, k, i, j, nx, ny int, xu, xv, yu, yv bool) bool {
 	if !consistent(stat[k], u[k], v[k]) {
 		return false
 	}
-	bad := func(n int) bool { return (u[n] != u[n] || v[n] != v[n]) && !consistent(stat[n], u[n], v[n]) }
-	if i > 0 && bad(k-1) || i < nx-1 && bad(k+1) || j > 0 && bad(k-nx) || j < ny-1 && bad(k+nx) {
+	// A NaN component at a usable-status neighbour is inconsistent; a NaN at an unusable one is
+	// expected (its other component is checked when it is the centre).
+	bad := func(n int, cu, cv bool) bool {
+		return (cu && u[n] != u[n] || cv && v[n] != v[n]) && stat[n].Valid()
+	}
+	if i > 0 && bad(k-1, xu, xv) || i < nx-1 && bad(k+1, xu, xv) ||
+		j > 0 && bad(k-nx, yu, yv) || j < ny-1 && bad(k+nx, yu, yv) {
 		return false
 	}
 	return true

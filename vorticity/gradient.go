@@ -57,7 +57,7 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 	h := scheme.Halo()
 	dudx, dudy, dvdx, dvdy, sten := g.DUDX, g.DUDY, g.DVDX, g.DVDY, g.Stencil
 	slow := func(k, i, j int) bool {
-		if !consistentAround(stat, u, v, k, i, j, nx, ny) {
+		if !consistentAround(stat, u, v, k, i, j, nx, ny, true, true, true, true) {
 			return false
 		}
 		if !stat[k].Valid() {

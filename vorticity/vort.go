@@ -38,7 +38,7 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 	hx, hy := 1/g.DX, 1/g.DY
 	h := scheme.Halo()
 	slow := func(k, i, j int) bool {
-		if !consistentAround(stat, u, v, k, i, j, nx, ny) {
+		if !consistentAround(stat, u, v, k, i, j, nx, ny, false, true, true, false) {
 			return false
 		}
 		if !stat[k].Valid() {
