@@ -200,6 +200,37 @@ func (l *level) gsRow(b, x []float64, j int, forward bool) {
 	}
 }
 
+// firstSweep is the forward Gauss–Seidel sweep from x = 0 followed by the residual, fused:
+// when node k is updated its east and north neighbours are still zero, so the sweep reads only
+// the west and south ones, and afterwards the residual of node k is exactly the contribution of
+// the east and north neighbours updated after it, r_k = cx_k x_{k+1} + cy_k x_{k+nx}. Every
+// entry of x and r is written.
+func (l *level) firstSweep(b, x, r []float64) {
+	nx := l.nx
+	n := nx * l.ny
+	cx, cy, inv := l.cx, l.cy, l.inv
+	for k := 0; k < n; k++ {
+		v := b[k]
+		if k > 0 {
+			v += cx[k-1] * x[k-1]
+		}
+		if k >= nx {
+			v += cy[k-nx] * x[k-nx]
+		}
+		x[k] = v * inv[k]
+	}
+	for k := 0; k < n-nx; k++ {
+		r[k] = cx[k]*x[k+1] + cy[k]*x[k+nx]
+	}
+	for k := max(n-nx, 0); k < n; k++ {
+		v := 0.0
+		if k+1 < n {
+			v = cx[k] * x[k+1]
+		}
+		r[k] = v
+	}
+}
+
 // offDiag returns Σ c x over the neighbours of node k (with the edge tests).
 func (l *level) offDiag(x []float64, k int) float64 {
 	nx := l.nx
@@ -240,16 +271,15 @@ func (l *level) resid(b, x, r []float64) {
 // (which it zeroes first). work is a residual buffer of the level's size.
 func vcycle(levels []*level, li int, b, x []float64, work [][]float64) {
 	l := levels[li]
-	for k := range x {
-		x[k] = 0
-	}
 	if li == len(levels)-1 {
+		for k := range x {
+			x[k] = 0
+		}
 		l.direct(b, x)
 		return
 	}
-	l.gs(b, x, true)
 	r := work[li]
-	l.resid(b, x, r)
+	l.firstSweep(b, x, r)
 	c := levels[li+1]
 	// Restriction: sum the residuals of each 2x2 aggregate.
 	for J := 0; J < c.ny; J++ {
