@@ -381,8 +381,7 @@ func solvePCG(s *system, tol float64, maxIter int) ([]float64, int, error) {
 	copy(p, z)
 	rz := dot(r, z)
 	for it := 1; it <= maxIter; it++ {
-		levels[0].apply(p, ap)
-		pap := dot(p, ap)
+		pap := levels[0].applyDot(p, ap)
 		if !(pap > 0) {
 			return nil, it, fmt.Errorf("conjugate gradients broke down after %d iterations (operator not positive definite)", it)
 		}
@@ -421,6 +420,28 @@ func (l *level) apply(x, y []float64) {
 	for k := max(n-nx, nx); k < n; k++ {
 		y[k] = d[k]*x[k] - l.offDiag(x, k)
 	}
+}
+
+// applyDot computes y = A x and returns x·y in the same pass.
+func (l *level) applyDot(x, y []float64) float64 {
+	nx := l.nx
+	n := nx * l.ny
+	cx, cy, d := l.cx, l.cy, l.diag
+	s := 0.0
+	for k := 0; k < nx && k < n; k++ {
+		y[k] = d[k]*x[k] - l.offDiag(x, k)
+		s += x[k] * y[k]
+	}
+	for k := nx; k < n-nx; k++ {
+		v := d[k]*x[k] - cx[k-1]*x[k-1] - cx[k]*x[k+1] - cy[k-nx]*x[k-nx] - cy[k]*x[k+nx]
+		y[k] = v
+		s += x[k] * v
+	}
+	for k := max(n-nx, nx); k < n; k++ {
+		y[k] = d[k]*x[k] - l.offDiag(x, k)
+		s += x[k] * y[k]
+	}
+	return s
 }
 
 func dot(a, b []float64) float64 {
