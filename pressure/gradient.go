@@ -94,28 +94,29 @@ func laplacian(f *piv.Field, scheme vorticity.Scheme) (lu, lv []float64) {
 // second writes ∂²s/∂x² + ∂²s/∂y² into out.
 func second(g piv.Grid, s, out []float64) {
 	tmp := make([]float64, len(s))
-	secondAxis(g, s, out, 1, g.NX, g.DX)
-	secondAxis(g, s, tmp, g.NX, g.NY, g.DY)
+	secondAxis(g, s, out, false)
+	secondAxis(g, s, tmp, true)
 	for q := range out {
 		out[q] += tmp[q]
 	}
 }
 
 // secondY writes ∂²s/∂y² into out.
-func secondY(g piv.Grid, s, out []float64) { secondAxis(g, s, out, g.NX, g.NY, g.DY) }
+func secondY(g piv.Grid, s, out []float64) { secondAxis(g, s, out, true) }
 
-// secondAxis writes the second derivative of s along one grid direction (index stride and
-// count n per line) into out: the central three-point difference where both neighbours have
+// secondAxis writes the second derivative of s along x, or along y when alongY, into out: the central three-point difference where both neighbours have
 // data, else the second-order one-sided four-point difference (2f0 − 5f1 + 4f2 − f3)/h², else
 // the first-order one-sided three-point difference, else NaN. No stencil reads a node without
 // data. (The vorticity package offers first derivatives only.)
-func secondAxis(g piv.Grid, s, out []float64, stride, n int, h float64) {
+func secondAxis(g piv.Grid, s, out []float64, alongY bool) {
+	stride, n, h := 1, g.NX, g.DX
+	if alongY {
+		stride, n, h = g.NX, g.NY, g.DY
+	}
 	h2 := h * h
 	for q := range s {
-		var pos int
-		if stride == 1 {
-			pos = q % g.NX
-		} else {
+		pos := q % g.NX
+		if alongY {
 			pos = q / g.NX
 		}
 		out[q] = math.NaN()

@@ -156,7 +156,7 @@ func Integrate(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*R
 		if err := transformApplies(s, opt); err != nil {
 			return nil, err
 		}
-		p = solveTransform(s, g, geom)
+		p = solveTransform(s, g, geom, effectiveEdges(opt))
 	case Multigrid:
 		p, res.Iterations, err = solvePCG(s, opt.Tol, opt.MaxIter)
 		if err != nil {

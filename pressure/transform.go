@@ -16,9 +16,19 @@ func transformApplies(s *system, opt Options) error {
 			return errors.New("the transform solver needs a full rectangle of valid data; use --solver multigrid for masked or missing regions")
 		}
 	}
-	d := opt.Dirichlet
-	if opt.LevelOnly {
-		d = 0
+	d := effectiveEdges(opt)
+	if s.nx < 2 || s.ny < 2 {
+		return errors.New("the transform solver needs at least 2 columns and 2 rows; use --solver multigrid")
+	}
+	rows := s.ny
+	if d&Bottom != 0 {
+		rows--
+	}
+	if d&Top != 0 {
+		rows--
+	}
+	if rows < 1 {
+		return errors.New("the transform solver needs a row between prescribed bottom and top edges")
 	}
 	if (d&Left != 0) != (d&Right != 0) {
 		return errors.New("the transform solver needs the left and right edges of the same type (both prescribed or both not); use --solver multigrid")
@@ -26,10 +36,16 @@ func transformApplies(s *system, opt Options) error {
 	if d&Left != 0 && s.nx < 3 {
 		return errors.New("the transform solver needs at least 3 columns between prescribed left and right edges")
 	}
-	if (d&Bottom != 0) && (d&Top != 0) && s.ny < 3 {
-		return errors.New("the transform solver needs at least 3 rows between prescribed bottom and top edges")
-	}
 	return nil
+}
+
+// effectiveEdges returns the edges whose values enter the linear system (none for level-only
+// references).
+func effectiveEdges(opt Options) Edges {
+	if opt.LevelOnly {
+		return 0
+	}
+	return opt.Dirichlet
 }
 
 // solveTransform solves the full-rectangle system directly. Along x the operator is the
@@ -39,23 +55,21 @@ func transformApplies(s *system, opt Options) error {
 // tridiagonal system (with the radial weights in the axisymmetric case), solved by the Thomas
 // algorithm. Cost O(N log NX). Written here because gonum offers the transforms but no fast
 // Poisson solver.
-func solveTransform(s *system, g piv.Grid, geom piv.Geometry) []float64 {
+func solveTransform(s *system, g piv.Grid, geom piv.Geometry, d Edges) []float64 {
 	nx, ny := s.nx, s.ny
 	row, face := radialWeights(g, geom)
 	ax := 1 / (g.DX * g.DX)
 	ay := 1 / (g.DY * g.DY)
-	dirX := s.fixed[0] && s.fixed[nx-1] && ny > 0 && s.fixed[(ny/2)*nx] && s.fixed[(ny/2)*nx+nx-1]
+	dirX := d&Left != 0
 	i0, m := 0, nx
 	if dirX {
 		i0, m = 1, nx-2
 	}
-	// Prescribed rows: a row is prescribed when its middle unknown-range node is fixed.
-	mid := i0 + m/2
 	j0, j1 := 0, ny-1
-	if ny > 1 && s.fixed[mid] {
+	if d&Bottom != 0 {
 		j0 = 1
 	}
-	if ny > 1 && s.fixed[(ny-1)*nx+mid] {
+	if d&Top != 0 {
 		j1 = ny - 2
 	}
 	rows := j1 - j0 + 1
