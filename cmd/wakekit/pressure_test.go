@@ -10,6 +10,7 @@ import (
 
 	"github.com/wakekit/wakekit/piv"
 	"github.com/wakekit/wakekit/piv/analytic"
+	"github.com/wakekit/wakekit/pressure"
 )
 
 // pressureTG is the test flow: a decaying Taylor–Green array (Taylor & Green 1937) in an
@@ -245,5 +246,67 @@ func TestPressureLagrangianTrack1(t *testing.T) {
 		"--out", filepath.Join(dir, "out"), "-q"}, paths...)...)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
+	}
+}
+
+// TestPressureCFDExit runs the command on the first 20 frames of the axisymmetric starting-jet
+// reference simulation (see its README) with the source far-field model: the exit table must
+// hold exactly what the pressure package computes for the same frames (its accuracy over the
+// whole record is the package's CFD test), and the summary must say that the exit pressure was
+// carried half a spacing from the first column.
+func TestPressureCFDExit(t *testing.T) {
+	ref := filepath.Join("..", "..", "..", "shared", "reference", "starting-jet-LD4")
+	if _, err := os.Stat(filepath.Join(ref, "frames.csv")); err != nil {
+		t.Skipf("CFD reference data not found at %s: %v", ref, err)
+	}
+	abs, err := filepath.Abs(ref)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	idx := "file,t\n"
+	for k := 0; k < 20; k++ {
+		idx += fmt.Sprintf("%s,%g\n", filepath.Join(abs, "frames", fmt.Sprintf("frame_%03d.csv", k)), 0.025*float64(k+1))
+	}
+	index := filepath.Join(dir, "index.csv")
+	if err := os.WriteFile(index, []byte(idx), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	code, stdout, stderr := runCapture("pressure", index, "--axisymmetric", "--axis", "0", "--exit", "0", "--nozzle-radius", "0.0125",
+		"--reference", "source", "--reference-edges", "right,top", "--rest-at", "0", "--rho", "1000", "--nu", "1e-6",
+		"--format", "csv", "--out", out, "-q")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "carried -0.0007813 m") {
+		t.Errorf("summary does not say the exit pressure was carried half a spacing:\n%s", stdout)
+	}
+	got := readColumns(t, filepath.Join(out, "exit_forces.csv"))
+	series, err := piv.OpenSeries([]string{index}, piv.ReadOptions{Geometry: piv.Geometry{Axisymmetric: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := pressure.FrameOptions{
+		Accel:     pressure.AccelOptions{Method: pressure.Eulerian, Rest: true},
+		Fluid:     pressure.Fluid{Rho: 1000, Nu: 1e-6},
+		Solve:     pressure.Options{Dirichlet: pressure.Right | pressure.Top, Tol: 1e-8, MaxIter: 500},
+		Reference: pressure.Source,
+		Exit:      &pressure.Exit{X: 0, Radius: 0.0125},
+	}
+	if len(got["pressure force [N]"]) != series.Len() {
+		t.Fatalf("%d rows in exit_forces.csv, want %d", len(got["pressure force [N]"]), series.Len())
+	}
+	for k := 0; k < series.Len(); k++ {
+		r, err := pressure.Reconstruct(series, k, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if g := got["pressure force [N]"][k]; math.Abs(g-r.Exit.P) > 1e-12*math.Abs(r.Exit.P) {
+			t.Errorf("frame %d: pressure force %g in the table, %g from the package", k, g, r.Exit.P)
+		}
+		if g := got["momentum flux [N]"][k]; math.Abs(g-r.Exit.M) > 1e-12*math.Abs(r.Exit.M) {
+			t.Errorf("frame %d: momentum flux %g in the table, %g from the package", k, g, r.Exit.M)
+		}
 	}
 }
