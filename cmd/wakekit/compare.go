@@ -72,7 +72,7 @@ func setupCompare(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return usagef("--by KEY is required (a --param key recorded by jet, or label)")
 		}
 		if pulse < 1 {
-			return usagef("--pulse %d must be 1 or more", pulse)
+			return fmt.Errorf("--pulse %d: give the number of the pulse to compare, 1 or more", pulse)
 		}
 		dirs := append([]string(nil), args...)
 		if ref != "" {

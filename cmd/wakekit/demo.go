@@ -40,6 +40,12 @@ func setupDemo(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if len(args) > 0 {
 			return usagef("demo takes no files (got %q)", args[0])
 		}
+		if *samples < 0 || *samples > 1000 {
+			return fmt.Errorf("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", *samples)
+		}
+		if run.workers < 0 {
+			return fmt.Errorf("--workers %d: give the number of frames to process at once (0: all cores)", run.workers)
+		}
 		dir := run.out
 		if err := os.MkdirAll(dir, 0o755); err != nil {
 			return err
@@ -56,9 +62,6 @@ func setupDemo(fs *pflag.FlagSet) func(e *env, args []string) error {
 			exit: circulation.ExitConfig{X: demo.ExitX, Diameter: demo.Diameter, LipOuter: demo.Diameter/2 + demo.LipThickness, AxisY: demo.AxisY, Rho: demo.Rho, Nu: demo.Nu}, threshold: 0.05, noise: -1, samples: *samples, seed: 7,
 			smooth: 3, restTime: 0, label: demo.Name, params: map[string]string{"thruster": "TT-25", "tank": "B", "run": "07"},
 			title: "Starting-jet budget: " + demo.Name, description: demo.Description,
-		}
-		if *samples < 0 || *samples > 1000 {
-			return usagef("--samples %d must be between 0 and 1000", *samples)
 		}
 		out, err := runJet(context.Background(), e, series, s, run, []string{index}, func() (string, error) { return dir, nil })
 		if err != nil {

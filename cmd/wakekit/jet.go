@@ -8,6 +8,7 @@ import (
 	"math"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/pflag"
@@ -54,10 +55,11 @@ Examples:
 type jetSettings struct {
 	exit        circulation.ExitConfig
 	slot        bool
-	pulse       string  // "T0,T1" or empty for automatic detection
-	threshold   float64 // detection threshold as a share of the peak exit velocity
-	noise       float64 // velocity noise [m/s]; < 0 means estimate
-	samples     int     // Monte-Carlo replicas
+	pulse       string     // "T0,T1" or empty for automatic detection
+	pulseT      [2]float64 // the parsed pulse start and end [s]
+	threshold   float64    // detection threshold as a share of the peak exit velocity
+	noise       float64    // velocity noise [m/s]; < 0 means estimate
+	samples     int        // Monte-Carlo replicas
 	seed        uint64
 	smooth      int
 	noPressure  bool
@@ -103,20 +105,23 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if !fs.Changed("diameter") {
 			return usagef("--diameter is required")
 		}
-		if err := s.exit.Validate(); err != nil {
-			return usagef("%v", err)
+		if err := s.checkValues(fs.Changed("lip")); err != nil {
+			return err
 		}
-		if s.samples < 0 || s.samples > 1000 {
-			return usagef("--samples %d must be between 0 and 1000", s.samples)
+		if run.workers < 0 {
+			return fmt.Errorf("--workers %d: give the number of frames to process at once (0: all cores)", run.workers)
 		}
-		if !(s.threshold > 0 && s.threshold < 1) {
-			return usagef("--threshold %g must be between 0 and 1", s.threshold)
+		if run.shard != "" {
+			return usagef("--shard: jet analyses the whole series at once (a pulse and its budget span many frames), so it cannot be split into shares; split per-frame maps with \"wakekit derive --shard\" or \"wakekit pressure --shard\" instead")
 		}
 		s.restTime = math.NaN()
 		if rest != "" {
-			var t float64
-			if _, err := fmt.Sscan(rest, &t); err != nil {
+			t, err := strconv.ParseFloat(strings.TrimSpace(rest), 64)
+			if err != nil {
 				return usagef("--rest %q is not a time in seconds", rest)
+			}
+			if math.IsNaN(t) || math.IsInf(t, 0) {
+				return fmt.Errorf("--rest %s: give the finite time in seconds at which the fluid was at rest, e.g. 0", rest)
 			}
 			s.restTime = t
 		}
@@ -148,6 +153,53 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 		fmt.Fprintf(e.stdout, "\nReport: %s\n", filepath.Join(dir, "report.html"))
 		return nil
 	}
+}
+
+// checkValues refuses flag values that parse as numbers but make no sense, saying what to
+// give instead; lipGiven tells whether --lip was given (0 is its default, meaning D/2).
+func (s *jetSettings) checkValues(lipGiven bool) error {
+	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+	c := s.exit
+	switch {
+	case !finite(c.Diameter) || c.Diameter <= 0:
+		return fmt.Errorf("--diameter %g: give the nozzle inner diameter (slot width) in m, a positive number, e.g. 0.025", c.Diameter)
+	case !finite(c.X):
+		return fmt.Errorf("--exit %g: give the x of the nozzle exit plane in m, a finite number, e.g. 0", c.X)
+	case !finite(c.Rho) || c.Rho <= 0:
+		return fmt.Errorf("--rho %g: give the fluid density in kg/m^3, a positive number, e.g. 998.2 for water at 20 C", c.Rho)
+	case !finite(c.Nu) || c.Nu <= 0:
+		return fmt.Errorf("--nu %g: give the kinematic viscosity in m^2/s, a positive number, e.g. 1.004e-6 for water at 20 C", c.Nu)
+	case lipGiven && (!finite(c.LipOuter) || c.LipOuter < c.Diameter/2):
+		return fmt.Errorf("--lip %g: give the outer radius of the nozzle lip in m, at least the inner radius D/2 = %g m (or leave --lip out for a knife edge)", c.LipOuter, c.Diameter/2)
+	case math.IsNaN(s.noise) || math.IsInf(s.noise, 0) || (s.noise < 0 && s.noise != -1):
+		return fmt.Errorf("--noise %g: give the velocity noise per component in m/s, zero or positive (e.g. 0.002), or leave --noise out to estimate it from the data", s.noise)
+	case s.samples < 0 || s.samples > 1000:
+		return fmt.Errorf("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", s.samples)
+	case s.smooth < 1:
+		return fmt.Errorf("--smooth %d: give the half-width of the dI/dt differentiator in frames, 1 or more (default %d)", s.smooth, circulation.BudgetSmooth)
+	case !(s.threshold > 0 && s.threshold < 1):
+		return fmt.Errorf("--threshold %g: give the pulse detection threshold as a share of the peak exit velocity, strictly between 0 and 1 (default %g)", s.threshold, circulation.PulseThreshold)
+	}
+	if s.pulse != "" {
+		parts := splitList(s.pulse)
+		if len(parts) != 2 {
+			return usagef("--pulse %q is not T0,T1 (two times in seconds)", s.pulse)
+		}
+		for n, p := range parts {
+			v, err := strconv.ParseFloat(p, 64)
+			if err != nil {
+				return usagef("--pulse %q: cannot read %q as a time", s.pulse, p)
+			}
+			if !finite(v) {
+				return fmt.Errorf("--pulse %s: %q is not a finite time; give the pulse start and end in seconds, e.g. 0.1,1.9", s.pulse, p)
+			}
+			s.pulseT[n] = v
+		}
+		if !(s.pulseT[1] > s.pulseT[0]) {
+			return fmt.Errorf("--pulse %s: the end T1 must come after the start T0; give T0,T1 with T0 < T1, e.g. 0.1,1.9", s.pulse)
+		}
+	}
+	return s.exit.Validate()
 }
 
 func parseParams(list []string) (map[string]string, error) {
@@ -317,20 +369,10 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	out.series = circulation.BudgetHistories(recs, s.exit, s.smooth)
 	var pulses []circulation.Pulse
 	if s.pulse != "" {
-		parts := splitList(s.pulse)
-		var a, b float64
-		if len(parts) != 2 {
-			return nil, usagef("--pulse %q is not T0,T1", s.pulse)
-		}
-		if _, err := fmt.Sscan(parts[0], &a); err != nil {
-			return nil, usagef("--pulse %q: cannot read %q as a time", s.pulse, parts[0])
-		}
-		if _, err := fmt.Sscan(parts[1], &b); err != nil {
-			return nil, usagef("--pulse %q: cannot read %q as a time", s.pulse, parts[1])
-		}
+		a, b := s.pulseT[0], s.pulseT[1]
 		p, err := circulation.PulseGiven(out.series.T, out.series.U0, a, b)
 		if err != nil {
-			return nil, usagef("--pulse: %v", err)
+			return nil, fmt.Errorf("--pulse %s: %v (the frames span %g..%g s)", s.pulse, err, out.series.T[0], out.series.T[len(out.series.T)-1])
 		}
 		pulses = []circulation.Pulse{p}
 	} else {

@@ -149,7 +149,6 @@ func TestJetBadInput(t *testing.T) {
 		{[]string{"jet", "x.csv", "--diameter", "0.02"}, 2, "--axisymmetric"},
 		{[]string{"jet", "x.csv", "--axisymmetric", "--slot", "--diameter", "0.02"}, 2, "exclude"},
 		{[]string{"jet", "x.csv", "--axisymmetric"}, 2, "--diameter"},
-		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "-1"}, 2, "diameter"},
 		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "0.02", "--param", "novalue"}, 2, "KEY=VALUE"},
 		{[]string{"jet", filepath.Join(dir, "missing.csv"), "--axisymmetric", "--diameter", "0.02", "--out", dir}, 1, "missing.csv"},
 	} {
@@ -166,11 +165,72 @@ func TestJetBadInput(t *testing.T) {
 	out := filepath.Join(dir, "never")
 	code, _, stderr := runCapture("jet", index, "--axisymmetric", "--diameter", "0.025", "--pulse", "5,4",
 		"--no-pressure", "--samples", "0", "-q", "--out", out)
-	if code != 2 || !strings.Contains(stderr, "--pulse") {
+	if code != 1 || !strings.Contains(stderr, "--pulse") {
 		t.Errorf("reversed pulse: exit %d, %q", code, stderr)
 	}
 	if _, err := os.Stat(out); !os.IsNotExist(err) {
 		t.Errorf("failed run left %s behind", out)
+	}
+}
+
+// Flag values that parse but make no sense are refused before anything is read or written:
+// exit status 1, a message naming the flag and saying what to give, and no output folder.
+func TestJetNonsenseNumbers(t *testing.T) {
+	base := t.TempDir()
+	jet := []string{"jet", filepath.Join(base, "frames.csv"), "--axisymmetric", "--diameter", "0.025"}
+	for n, c := range []struct {
+		args []string
+		want string
+	}{
+		{append(jet, "--noise", "NaN"), "--noise NaN: give"},
+		{append(jet, "--noise", "Inf"), "--noise +Inf: give"},
+		{append(jet, "--noise", "-0.5"), "--noise -0.5: give"},
+		{append(jet, "--rho", "0"), "--rho 0: give"},
+		{append(jet, "--rho", "-1000"), "--rho -1000: give"},
+		{append(jet, "--rho", "NaN"), "--rho NaN: give"},
+		{append(jet, "--nu", "0"), "--nu 0: give"},
+		{append(jet, "--nu", "Inf"), "--nu +Inf: give"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "0"}, "--diameter 0: give"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "-1"}, "--diameter -1: give"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "NaN"}, "--diameter NaN: give"},
+		{[]string{"jet", "x.csv", "--axisymmetric", "--diameter", "Inf"}, "--diameter +Inf: give"},
+		{append(jet, "--exit", "NaN"), "--exit NaN: give"},
+		{append(jet, "--exit", "-Inf"), "--exit -Inf: give"},
+		{append(jet, "--samples", "-1"), "--samples -1: give"},
+		{append(jet, "--samples", "1001"), "--samples 1001: give"},
+		{append(jet, "--smooth", "0"), "--smooth 0: give"},
+		{append(jet, "--smooth", "-3"), "--smooth -3: give"},
+		{append(jet, "--threshold", "0"), "--threshold 0: give"},
+		{append(jet, "--threshold", "1"), "--threshold 1: give"},
+		{append(jet, "--threshold", "NaN"), "--threshold NaN: give"},
+		{append(jet, "--pulse", "2,1"), "T0 < T1"},
+		{append(jet, "--pulse", "1,1"), "T0 < T1"},
+		{append(jet, "--pulse", "0,NaN"), "not a finite time"},
+		{append(jet, "--pulse", "Inf,5"), "not a finite time"},
+		{append(jet, "--lip", "0.01"), "at least the inner radius D/2 = 0.0125 m"},
+		{append(jet, "--lip", "0"), "at least the inner radius"},
+		{append(jet, "--lip", "NaN"), "--lip NaN: give"},
+		{append(jet, "--rest", "NaN"), "--rest NaN: give"},
+		{append(jet, "--workers", "-2"), "--workers -2: give"},
+		{[]string{"demo", "--samples", "-4"}, "--samples -4: give"},
+		{[]string{"demo", "--workers", "-1"}, "--workers -1: give"},
+		{[]string{"compare", "a", "b", "--by", "k", "--pulse", "0"}, "--pulse 0: give"},
+	} {
+		out := filepath.Join(base, fmt.Sprintf("out%d", n))
+		code, stdout, stderr := runCapture(append(c.args, "--out", out)...)
+		if code != 1 || !strings.Contains(stderr, c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want 1 and %q", c.args, code, stderr, c.want)
+		}
+		if stdout != "" {
+			t.Errorf("%v: printed %q", c.args, stdout)
+		}
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			t.Errorf("%v: left %s behind", c.args, out)
+		}
+	}
+	// The estimate sentinel -1 stays accepted as the default it is.
+	if code, _, stderr := runCapture(append(jet, "--noise", "-1", "--out", filepath.Join(base, "sentinel"))...); code != 1 || !strings.Contains(stderr, "frames.csv") {
+		t.Errorf("--noise -1: exit %d, %q; want the missing input reported", code, stderr)
 	}
 }
 
