@@ -109,19 +109,25 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 			}
 		default:
 			cx, cy := hx/2, hy/2
-			// Row views let the compiler drop most bounds checks in the hottest loop.
+			// Row views let the compiler drop most bounds checks in the hottest loop, which runs
+			// in a function of its own so that its state stays in registers; when every centre
+			// status of the row is usable, it tests only the stencil result.
 			vr := v[lo-1 : hi+1]
 			us, un := u[lo-nx:hi-nx], u[lo+nx:hi+nx]
 			sc, out := stat[lo:hi], dst[lo:hi]
-			for m := range out {
-				w := (vr[m+2]-vr[m])*cx - (un[m]-us[m])*cy
-				if w != w || !sc[m].Valid() {
-					if !slow(lo+m, lo+m-row, j) {
-						return false
-					}
-					continue
+			usable := rowUsable(sc)
+			for m := 0; ; m++ {
+				if usable {
+					m = centralRun(out, vr, us, un, cx, cy, m)
+				} else {
+					m = centralRunMasked(out, vr, us, un, sc, cx, cy, m)
 				}
-				out[m] = w
+				if m == len(out) {
+					break
+				}
+				if !slow(lo+m, lo+m-row, j) {
+					return false
+				}
 			}
 		}
 		for i := nx - h; i < nx; i++ {
@@ -131,4 +137,53 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 		}
 	}
 	return true
+}
+
+// rowUsable reports whether every status in sc is usable (Measured or Replaced: kind bit 1
+// clear), eight at a time.
+func rowUsable(sc []piv.Status) bool {
+	var or piv.Status
+	m := 0
+	for ; m+8 <= len(sc); m += 8 {
+		s := sc[m : m+8 : m+8]
+		or |= s[0] | s[1] | s[2] | s[3] | s[4] | s[5] | s[6] | s[7]
+	}
+	for _, s := range sc[m:] {
+		or |= s
+	}
+	return or&2 == 0
+}
+
+// centralRun writes the central-difference vorticity (vr[m+2]-vr[m])·cx - (un[m]-us[m])·cy
+// into out from position m0 on, where vr is the v row shifted one node left and us, un the u
+// rows below and above, and stops at the first NaN result. It returns that position, or
+// len(out) when there is none. It is kept out of line: inlined into the caller, whose fallback
+// closure needs many registers, the loop index lived on the stack.
+//
+//go:noinline
+func centralRun(out, vr, us, un []float64, cx, cy float64, m0 int) int {
+	out = out[m0:]
+	vr, us, un = vr[m0:m0+len(out)+2], us[m0:m0+len(out)], un[m0:m0+len(out)]
+	for m := range out {
+		w := (vr[m+2]-vr[m])*cx - (un[m]-us[m])*cy
+		if w != w {
+			return m0 + m
+		}
+		out[m] = w
+	}
+	return m0 + len(out)
+}
+
+// centralRunMasked is centralRun that also stops at a centre whose status sc[m] is unusable.
+func centralRunMasked(out, vr, us, un []float64, sc []piv.Status, cx, cy float64, m0 int) int {
+	out = out[m0:]
+	vr, us, un, sc = vr[m0:m0+len(out)+2], us[m0:m0+len(out)], un[m0:m0+len(out)], sc[m0:m0+len(out)]
+	for m := range out {
+		w := (vr[m+2]-vr[m])*cx - (un[m]-us[m])*cy
+		if w != w || !sc[m].Valid() {
+			return m0 + m
+		}
+		out[m] = w
+	}
+	return m0 + len(out)
 }
