@@ -137,6 +137,11 @@ func Integrate(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*R
 	if err != nil {
 		return nil, err
 	}
+	if opt.RefPoint && fixedVal == nil {
+		if err := checkRefPoint(g, opt.RefX, opt.RefY); err != nil {
+			return nil, err
+		}
+	}
 	var sysFixed []float64
 	if !opt.LevelOnly {
 		sysFixed = fixedVal
@@ -168,7 +173,9 @@ func Integrate(g piv.Grid, geom piv.Geometry, gx, gy []float64, opt Options) (*R
 		return nil, fmt.Errorf("unknown solver %d", solver)
 	}
 	res.Residual = s.residual(p)
-	res.Components = fixLevel(s, g, p, fixedVal, opt, solver == Paths)
+	if res.Components, err = fixLevel(s, g, p, fixedVal, opt, solver == Paths); err != nil {
+		return nil, err
+	}
 	for k := range p {
 		if !s.active[k] {
 			p[k] = math.NaN()
@@ -310,8 +317,10 @@ func (s *system) residual(p []float64) float64 {
 // do not determine, and writes the fixed values. It returns the number of regions. Each region
 // is shifted so that it matches the mean of its prescribed values (level-only references and
 // the path integrator), else the reference point when it lies in the region, else so that its
-// volume-weighted mean is PInf. Cost O(N) whatever the number of regions.
-func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree bool) int {
+// volume-weighted mean is PInf. Cost O(N) whatever the number of regions. A reference point
+// without valid data around it is an error: the level it should set would otherwise fall
+// silently to the mean.
+func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree bool) (int, error) {
 	if !allFree {
 		for k := range p {
 			if s.fixed[k] {
@@ -340,12 +349,17 @@ func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree
 		// The region of the node nearest to the reference point.
 		fi, fj := g.Frac(opt.RefX, opt.RefY)
 		i, j := int(math.Round(fi)), int(math.Round(fj))
+		set := false
 		if g.In(i, j) {
 			if c := label[g.Index(i, j)]; c >= 0 {
 				if pr := piv.Sample(g, maskNaN(p, label, c), opt.RefX, opt.RefY, piv.Bilinear); !math.IsNaN(pr) {
 					target[c], have[c], wsum[c] = opt.PInf, pr, 1
+					set = true
 				}
 			}
+		}
+		if !set {
+			return nc, fmt.Errorf("the reference point (%g, %g) m lies next to nodes without a pressure gradient (missing, solid or outside the data); choose a point in measured fluid", opt.RefX, opt.RefY)
 		}
 	}
 	// Regions still without a level: volume-weighted mean equal to PInf.
@@ -376,7 +390,20 @@ func fixLevel(s *system, g piv.Grid, p, fixedVal []float64, opt Options, allFree
 			p[k] += shift[l]
 		}
 	}
-	return nc
+	return nc, nil
+}
+
+// checkRefPoint refuses a reference point that is not a finite position between the outermost
+// nodes, where the bilinear interpolation that reads the pressure there reaches (piv.Sample,
+// which allows 1e-9 of a spacing for rounding).
+func checkRefPoint(g piv.Grid, x, y float64) error {
+	fi, fj := g.Frac(x, y)
+	const eps = 1e-9
+	if !isFinite(fi) || !isFinite(fj) || fi < -eps || fj < -eps || fi > float64(g.NX-1)+eps || fj > float64(g.NY-1)+eps {
+		return fmt.Errorf("the reference point (%g, %g) m is outside the field (x %g .. %g m, y %g .. %g m)",
+			x, y, g.X0, g.X(g.NX-1), g.Y0, g.Y(g.NY-1))
+	}
+	return nil
 }
 
 // maskNaN returns a copy of p with NaN outside region c.
