@@ -39,11 +39,13 @@ Examples:
 }
 
 // compareFigures are the compared figures: summary key, column title.
+// The table gives each column the display unit of the reference run's value (the summaries
+// record the SI unit of every figure).
 var compareFigures = []struct{ key, title string }{
-	{"impulse_final", "impulse [N s]"},
-	{"peak_force", "peak thrust [N]"},
+	{"impulse_final", "impulse"},
+	{"peak_force", "peak thrust"},
 	{"overpressure_share", "over-pressure share"},
-	{"ring_circulation", "ring circulation [m^2/s]"},
+	{"ring_circulation", "ring circulation"},
 	{"formation_number", "formation number"},
 }
 
@@ -51,6 +53,8 @@ type compareRun struct {
 	dir, label, by string
 	byNum          float64
 	values         []float64
+	uncs           []float64 // one-sigma uncertainties (NaN: none)
+	units          []string  // SI units as the summary records them
 	ratios         []float64
 	geometry       string
 }
@@ -163,11 +167,16 @@ func loadCompareRuns(dirs []string, by string, pulse int) ([]compareRun, error) 
 			if !ok {
 				return nil, fmt.Errorf("%s: pulse %d lacks the figure %q", path, pulse, cf.key)
 			}
-			v := math.NaN()
+			v, u := math.NaN(), math.NaN()
 			if f.Value != nil {
 				v = *f.Value
 			}
+			if f.Uncertainty != nil {
+				u = *f.Uncertainty
+			}
 			r.values = append(r.values, v)
+			r.uncs = append(r.uncs, u)
+			r.units = append(r.units, f.Unit)
 		}
 		if len(runs) > 0 && runs[0].geometry != r.geometry {
 			return nil, fmt.Errorf("%s: geometry %s, but %s is %s; runs of different geometries cannot be compared",
@@ -200,8 +209,14 @@ func sortCompare(runs []compareRun) {
 func printCompare(w io.Writer, runs []compareRun, by string, ref *compareRun) {
 	fmt.Fprintf(w, "Reference run: %s; ratios in parentheses\n\n", ref.dir)
 	fmt.Fprintf(w, "%-14s %-24s", by, "run")
-	for _, cf := range compareFigures {
-		fmt.Fprintf(w, " %24s", cf.title)
+	scales := make([]report.Scale, len(compareFigures))
+	for q, cf := range compareFigures {
+		scales[q] = report.ChooseScale(ref.values[q], ref.uncs[q], ref.units[q])
+		title := cf.title
+		if scales[q].Unit != "" {
+			title += " [" + scales[q].Unit + "]"
+		}
+		fmt.Fprintf(w, " %26s", title)
 	}
 	fmt.Fprintln(w)
 	for _, r := range runs {
@@ -211,7 +226,12 @@ func printCompare(w io.Writer, runs []compareRun, by string, ref *compareRun) {
 		}
 		fmt.Fprintf(w, "%-14s %-24s", r.by, name)
 		for q := range compareFigures {
-			fmt.Fprintf(w, " %24s", fmt.Sprintf("%s (%s)", fmtVal(r.values[q]), fmtRatio(r.ratios[q])))
+			fq := scales[q].Format(r.values[q], r.uncs[q])
+			cell := fq.Value
+			if fq.Uncertainty != "" {
+				cell += " ± " + fq.Uncertainty
+			}
+			fmt.Fprintf(w, " %26s", fmt.Sprintf("%s (%s)", cell, fmtRatio(r.ratios[q])))
 		}
 		fmt.Fprintln(w)
 	}

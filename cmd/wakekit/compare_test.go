@@ -109,3 +109,35 @@ func TestCompareBadInputs(t *testing.T) {
 		t.Errorf("one run: exit %d, want 2", code)
 	}
 }
+
+// The table rounds each figure to its uncertainty (report.Format) in the display unit of the
+// reference run's value, named in the column title.
+func TestCompareTableFormatting(t *testing.T) {
+	base := t.TempDir()
+	write := func(name string, imp, unc float64) {
+		figs := map[string]jsonFigure{}
+		for _, cf := range compareFigures {
+			figs[cf.key] = jsonFigure{Value: num(1), Uncertainty: num(0.01), Unit: "1", Name: cf.key}
+		}
+		figs["impulse_final"] = jsonFigure{Value: num(imp), Uncertainty: num(unc), Unit: "N s", Name: "impulse"}
+		figs["ring_circulation"] = jsonFigure{Value: num(2.6204e-3), Uncertainty: num(9.52e-6), Unit: "m^2/s", Name: "ring"}
+		js := jsonSummary{Format: summaryFormat, Version: summaryVersion, Label: name, Geometry: "axisymmetric",
+			Params: map[string]string{"s": name}, Pulses: []jsonPulse{{Index: 1, Figures: figs}}}
+		b, _ := json.Marshal(js)
+		os.MkdirAll(filepath.Join(base, name), 0o755)
+		if err := os.WriteFile(filepath.Join(base, name, "summary.json"), b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	write("1", 2.091e-3, 1.175e-4)
+	write("2", 4.5e-4, 2.04e-5)
+	code, stdout, stderr := runCapture("compare", filepath.Join(base, "1"), filepath.Join(base, "2"), "--by", "s", "--out", filepath.Join(base, "o"))
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	for _, want := range []string{"impulse [mN s]", "ring circulation [mm²/s]", "2.09 ± 0.12 (1.000)", "0.450 ± 0.020 (0.215)", "2620.4 ± 9.5 (1.000)", "1.000 ± 0.010 (1.000)"} {
+		if !strings.Contains(stdout, want) {
+			t.Errorf("table lacks %q:\n%s", want, stdout)
+		}
+	}
+}

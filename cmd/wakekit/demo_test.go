@@ -5,11 +5,14 @@ import (
 	"encoding/base64"
 	"html"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
+
+	"github.com/wakekit/wakekit/internal/report"
 )
 
 var demoImg = regexp.MustCompile(`<img [^>]*src="([^"]*)"`)
@@ -59,17 +62,40 @@ func TestDemoReport(t *testing.T) {
 	}
 	n := 0
 	for key, f := range js.Pulses[0].Figures {
-		want := "not computed"
+		// The report shows the value rounded to its uncertainty in a display unit (see
+		// report.Format); the summary keeps the full-precision numbers.
+		v, u := math.NaN(), math.NaN()
 		if f.Value != nil {
-			want = fmtVal(*f.Value)
+			v = *f.Value
 		}
-		if !strings.Contains(page, html.EscapeString(f.Name)) || !strings.Contains(page, ">"+want+"<") {
-			t.Errorf("figure %s (%s = %s) not in the report", key, f.Name, want)
+		if f.Uncertainty != nil {
+			u = *f.Uncertainty
 		}
-		if f.Uncertainty != nil && !strings.Contains(page, ">"+fmtVal(*f.Uncertainty)+"<") {
-			t.Errorf("uncertainty of %s (%s) not in the report", key, fmtVal(*f.Uncertainty))
+		fq := report.Format(v, u, f.Unit)
+		row := "<td>" + html.EscapeString(f.Name) + `</td><td class="num">` + html.EscapeString(fq.Value) +
+			`</td><td class="num">` + html.EscapeString(fq.Uncertainty) + "</td><td>" + html.EscapeString(fq.Unit) + "</td>"
+		if !strings.Contains(page, row) {
+			t.Errorf("figure %s (%s = %s) not in the report as %q", key, f.Name, fq, row)
+		}
+		if f.Value != nil && f.Uncertainty != nil && fq.Uncertainty == "" {
+			t.Errorf("figure %s has an uncertainty in the summary but none in the report", key)
+		}
+		if f.Unit == "1" && strings.Contains(row, "<td>1</td>") {
+			t.Errorf("figure %s shows the unit 1", key)
 		}
 		n++
+	}
+	// The stdout table prints the same rounded figures.
+	for _, key := range []string{"stroke_ratio", "impulse_final", "pressure_window_a", "ring_speed"} {
+		f := js.Pulses[0].Figures[key]
+		if f.Value == nil || f.Uncertainty == nil {
+			t.Errorf("demo figure %s has no value or uncertainty", key)
+			continue
+		}
+		fq := report.Format(*f.Value, *f.Uncertainty, f.Unit)
+		if !regexp.MustCompile(regexp.QuoteMeta(fq.Value) + ` +± ` + regexp.QuoteMeta(fq.Uncertainty) + ` +` + regexp.QuoteMeta(fq.Unit) + `\n`).MatchString(stdout) {
+			t.Errorf("stdout lacks %s as %q:\n%s", key, fq, stdout)
+		}
 	}
 	if n < 40 {
 		t.Errorf("only %d figures in the summary", n)

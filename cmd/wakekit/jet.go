@@ -625,8 +625,8 @@ func printJetSummary(w io.Writer, o *jetOutcome) {
 		"ring_circulation", "formation_number", "slug_impulse", "impulse_final", "momentum_window",
 		"pressure_window_a", "pressure_window_b", "overpressure_share", "peak_force", "peak_pressure_a", "peak_ratio_a",
 		"ring_speed", "saffman_speed"}
-	fmt.Fprintf(w, "%d frames, %s; noise %s m/s (%s), %d Monte-Carlo replicas\n",
-		o.frameCount, map[bool]string{true: "axisymmetric", false: "slot"}[o.axi], fmtVal(o.noise), o.noiseFrom, o.settings.samples)
+	fmt.Fprintf(w, "%d frames, %s; noise %s (%s), %d Monte-Carlo replicas\n",
+		o.frameCount, map[bool]string{true: "axisymmetric", false: "slot"}[o.axi], report.Format(o.noise, math.NaN(), "m/s"), o.noiseFrom, o.settings.samples)
 	for q, figs := range o.figures {
 		fmt.Fprintf(w, "\nPulse %d\n", q+1)
 		for _, key := range keys {
@@ -634,21 +634,16 @@ func printJetSummary(w io.Writer, o *jetOutcome) {
 				if f.Key != key {
 					continue
 				}
+				fq := report.Format(f.Value, o.spread[q][n], f.Unit)
 				unc := ""
-				if u := o.spread[q][n]; !math.IsNaN(u) {
-					unc = "± " + fmtVal(u)
+				if fq.Uncertainty != "" {
+					unc = "± " + fq.Uncertainty
 				}
-				fmt.Fprintf(w, "  %-52s %12s %-12s %s\n", f.Name, fmtVal(f.Value), unc, f.Unit)
+				line := fmt.Sprintf("  %-52s %12s %-9s %s", f.Name, fq.Value, unc, fq.Unit)
+				fmt.Fprintln(w, strings.TrimRight(line, " "))
 			}
 		}
 	}
-}
-
-func fmtVal(x float64) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return "not computed"
-	}
-	return fmt.Sprintf("%.4g", x)
 }
 
 type jetPlot struct {
@@ -794,12 +789,9 @@ func jetReport(o *jetOutcome, js jsonSummary, plots []jetPlot) *report.Report {
 	r := &report.Report{Title: s.title, Subtitle: s.description}
 	for q, figs := range o.figures {
 		for n, f := range figs {
-			unc := ""
-			if u := o.spread[q][n]; !math.IsNaN(u) {
-				unc = fmtVal(u)
-			}
+			fq := report.Format(f.Value, o.spread[q][n], f.Unit)
 			r.Summary = append(r.Summary, report.Row{Group: fmt.Sprintf("Pulse %d: %s", q+1, f.Group), Name: f.Name,
-				Value: fmtVal(f.Value), Uncertainty: unc, Unit: f.Unit})
+				Value: fq.Value, Uncertainty: fq.Uncertainty, Unit: fq.Unit})
 		}
 	}
 	for _, p := range plots {
@@ -825,7 +817,7 @@ func jetReport(o *jetOutcome, js jsonSummary, plots []jetPlot) *report.Report {
 	for _, k := range skeys {
 		r.Settings = append(r.Settings, [2]string{k, fmt.Sprint(js.Settings[k])})
 	}
-	r.Settings = append(r.Settings, [2]string{"noise sigma [m/s]", fmtVal(o.noise) + " (" + o.noiseFrom + ")"},
+	r.Settings = append(r.Settings, [2]string{"noise sigma", report.Format(o.noise, math.NaN(), "m/s").String() + " (" + o.noiseFrom + ")"},
 		[2]string{"Monte-Carlo replicas, seed", fmt.Sprintf("%d, %d", s.samples, s.seed)})
 	r.Methods = jetMethods
 	r.Unmeasured = o.notDone
