@@ -93,7 +93,11 @@ func TestDemoReport(t *testing.T) {
 			continue
 		}
 		fq := report.Format(*f.Value, *f.Uncertainty, f.Unit)
-		if !regexp.MustCompile(regexp.QuoteMeta(fq.Value) + ` +± ` + regexp.QuoteMeta(fq.Uncertainty) + ` +` + regexp.QuoteMeta(fq.Unit) + `\n`).MatchString(stdout) {
+		pat := regexp.QuoteMeta(fq.Value) + ` +± ` + regexp.QuoteMeta(fq.Uncertainty)
+		if fq.Unit != "" {
+			pat += ` +` + regexp.QuoteMeta(fq.Unit)
+		}
+		if !regexp.MustCompile(pat + `\n`).MatchString(stdout) {
 			t.Errorf("stdout lacks %s as %q:\n%s", key, fq, stdout)
 		}
 	}
