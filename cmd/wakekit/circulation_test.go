@@ -137,11 +137,43 @@ func TestCirculationVorticesBadInput(t *testing.T) {
 		if code != 1 || !strings.Contains(stderr, c.want) {
 			t.Errorf("%v: status %d, stderr %q; want status 1 mentioning %q", c.args, code, stderr, c.want)
 		}
-		if ents, _ := os.ReadDir(out); len(ents) > 0 {
-			t.Errorf("%v: left output %v", c.args, ents)
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			ents, _ := os.ReadDir(out)
+			t.Errorf("%v: left the output folder behind (%d entries)", c.args, len(ents))
 		}
 	}
 	if code, _, _ := runCapture("circulation", files[0]); code != 2 {
 		t.Errorf("no contour: status %d, want 2", code)
+	}
+	// A bad frame late in a series stops the run: no table, and none of the maps drawn for the
+	// frames before it, is left, neither in a new folder nor in one that existed.
+	series := writeFrames(t, analytic.LambOseen{Gamma: 1e-3, CoreRadius: 0.005, Uc: 0.01}, piv.Grid{NX: 41, NY: 41, X0: -0.01, Y0: -0.01, DX: h, DY: h}, 4, 0.05)
+	if err := os.WriteFile(series[3], []byte("x,y,u,v\n0,0,1,1\n1,0,1.2.3,1\n0,1,1,1\n1,1,1,1\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{
+		{"vortices", "--format", "png", "--dt", "0.05"},
+		{"circulation", "--circle", "0,0,0.004", "--dt", "0.05"},
+	} {
+		out := filepath.Join(t.TempDir(), "out")
+		code, _, stderr := runCapture(append(append(args, "-q", "-o", out), series...)...)
+		if code != 1 || !strings.Contains(stderr, series[3]+":3:3") {
+			t.Errorf("%v: status %d, stderr %q; want status 1 naming %s:3:3", args, code, stderr, series[3])
+		}
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			t.Errorf("%v: left the output folder behind", args)
+		}
+		kept := t.TempDir()
+		if err := os.WriteFile(filepath.Join(kept, "notes.txt"), []byte("mine"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		runCapture(append(append(args, "-q", "-o", kept), series...)...)
+		if ents, _ := os.ReadDir(kept); len(ents) != 1 || ents[0].Name() != "notes.txt" {
+			names := []string{}
+			for _, e := range ents {
+				names = append(names, e.Name())
+			}
+			t.Errorf("%v: existing folder holds %v after the failed run, want only notes.txt", args, names)
+		}
 	}
 }

@@ -130,11 +130,15 @@ func setupVortices(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if !popt.Shard.IsAll() || popt.Resume {
 			return usagef("vortices tracks through the whole series and does not take --shard or --resume")
 		}
-		dir, err := run.outDir("vortices", args)
+		dir, undo, err := newOutDir(run, "vortices", args)
 		if err != nil {
 			return err
 		}
-		return runVortices(e, series, popt, st, dir)
+		if err := runVortices(e, series, popt, st, dir); err != nil {
+			undo()
+			return err
+		}
+		return nil
 	}
 }
 
@@ -153,8 +157,18 @@ type vortexFrame struct {
 	pair    *circulation.Pair
 }
 
-func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings, dir string) error {
+func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings, dir string) (err error) {
 	var axisym bool
+	// Maps are drawn while the frames stream through; a run that fails removes those it drew.
+	var drawn []string
+	defer func() {
+		if err != nil {
+			for _, p := range drawn {
+				os.Remove(p)
+			}
+			os.Remove(filepath.Join(dir, "maps")) // only if empty
+		}
+	}()
 	proc := func(ctx context.Context, k int, fr pipeline.Frames) (vortexFrame, error) {
 		f, err := fr.Frame(k)
 		if err != nil {
@@ -230,9 +244,11 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 		}
 		if vf.field != nil {
 			axisym = vf.field.Geometry.Axisymmetric
-			if err := drawVortexMap(filepath.Join(dir, "maps", fmt.Sprintf("vorticity_%04d.png", k)), k, vf, tr.Active()); err != nil {
+			path := filepath.Join(dir, "maps", fmt.Sprintf("vorticity_%04d.png", k))
+			if err := drawVortexMap(path, k, vf, tr.Active()); err != nil {
 				return err
 			}
+			drawn = append(drawn, path)
 		}
 		vf.field, vf.omega = nil, nil
 		for c := range vf.cores {
@@ -259,7 +275,7 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 		}
 	}
 	ncores := 0
-	err := piv.WriteFileAtomic(filepath.Join(dir, "cores.csv"), func(w io.Writer) error {
+	err = piv.WriteFileAtomic(filepath.Join(dir, "cores.csv"), func(w io.Writer) error {
 		if _, err := fmt.Fprintln(w, "frame,time [s],core,track,sign,x [m],y [m],peak_x [m],peak_y [m],peak_omega [1/s],gamma [m^2/s],area [m^2],eq_radius [m],core_radius [m],mean_omega [1/s],missing_share"); err != nil {
 			return err
 		}
