@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -106,6 +107,28 @@ func setupClean(fs *pflag.FlagSet) func(e *env, args []string) error {
 // options turns the flags into the cleaning options (and the settings as stored).
 func (o *cleanFlags) options(fs *pflag.FlagSet, rd *readFlags) (piv.CleanOptions, error) {
 	var opt piv.CleanOptions
+	// Numbers that parse but make no sense are refused before anything is read, saying what
+	// to give.
+	for _, c := range []struct {
+		flag string
+		v    float64
+		rule numberRule
+		want string
+	}{
+		{"--threshold", o.Threshold, positive, fmt.Sprintf("the normalized median test threshold, e.g. %g (the published value)", piv.DefaultMedianThreshold)},
+		{"--eps", o.Eps, nonNegative, "the median test's noise floor in m/s, e.g. 0.002 (or omit it and give --eps-px)"},
+		{"--eps-px", o.epsPx, positive, fmt.Sprintf("the noise floor in px, e.g. %g (the published value)", piv.DefaultMedianEpsilonPx)},
+		{"--max-speed", o.MaxSpeed, nonNegative, "the largest accepted speed in m/s, e.g. 2 (0: no limit)"},
+		{"--std", o.Std, nonNegative, "the standard-deviation filter factor, e.g. 3 (0: off)"},
+		{"--sigma", o.Sigma, positive, "the Gaussian standard deviation in nodes, e.g. 1"},
+	} {
+		if err := checkNumber(c.flag, c.v, c.rule, c.want); err != nil {
+			return opt, err
+		}
+	}
+	if fs.Changed("eps") && o.Median != 0 && o.Eps == 0 {
+		return opt, usagef("--eps 0: give the median test a positive noise floor in m/s, e.g. 0.002")
+	}
 	switch o.Median {
 	case 0:
 	case 3, 5:
@@ -126,7 +149,7 @@ func (o *cleanFlags) options(fs *pflag.FlagSet, rd *readFlags) (piv.CleanOptions
 	default:
 		return opt, usagef("--median %d: use 3, 5 or 0", o.Median)
 	}
-	if o.URange != "" || o.VRange != "" || fs.Changed("max-speed") {
+	if o.URange != "" || o.VRange != "" || o.MaxSpeed > 0 {
 		lim := piv.NoRangeLimits()
 		for _, r := range []struct {
 			flag, val string
@@ -139,9 +162,12 @@ func (o *cleanFlags) options(fs *pflag.FlagSet, rd *readFlags) (piv.CleanOptions
 			if err != nil {
 				return opt, err
 			}
+			if math.IsNaN(v[0]) || math.IsNaN(v[1]) || v[0] > v[1] {
+				return opt, usagef("%s %q: give MIN,MAX in m/s with MIN below MAX, e.g. -0.5,1.5 (-Inf or Inf for no bound)", r.flag, r.val)
+			}
 			*r.lo, *r.hi = v[0], v[1]
 		}
-		if fs.Changed("max-speed") {
+		if o.MaxSpeed > 0 {
 			lim.MaxSpeed = o.MaxSpeed
 		}
 		if err := lim.Check(); err != nil {
@@ -150,9 +176,6 @@ func (o *cleanFlags) options(fs *pflag.FlagSet, rd *readFlags) (piv.CleanOptions
 		opt.Validate.Range = &lim
 	}
 	if o.Std != 0 {
-		if !(o.Std > 0) {
-			return opt, usagef("--std %g must be positive (or 0 for off)", o.Std)
-		}
 		opt.Validate.Std = &piv.StdOptions{Factor: o.Std, Epsilon: o.Eps}
 	}
 	switch o.Fill {
@@ -169,7 +192,7 @@ func (o *cleanFlags) options(fs *pflag.FlagSet, rd *readFlags) (piv.CleanOptions
 	switch o.Smooth {
 	case "none":
 	case "gaussian":
-		if !(o.Sigma > 0) || o.Sigma > 50 {
+		if o.Sigma > 50 {
 			return opt, usagef("--sigma %g must lie in (0, 50] nodes", o.Sigma)
 		}
 		opt.Smooth, opt.Sigma = piv.SmoothGaussianFilter, o.Sigma
@@ -212,7 +235,7 @@ func (o *cleanFlags) run(e *env, fs *pflag.FlagSet, rd *readFlags, rf *runFlags,
 	if err != nil {
 		return err
 	}
-	dir, err := rf.outDir("clean", args)
+	dir, created, err := rf.newOutDir("clean", args)
 	if err != nil {
 		return err
 	}
@@ -220,7 +243,10 @@ func (o *cleanFlags) run(e *env, fs *pflag.FlagSet, rd *readFlags, rf *runFlags,
 	batch := pipeline.Batch{Dir: dir, Command: "clean", Version: version, Settings: o.cleanSettings,
 		Tables: []pipeline.Table{{Name: cleanTable,
 			Header: "frame,time [s],file,checked,rejected_range,rejected_median,rejected_std,filled,missing,solid"}}}
-	rep, err := pipeline.RunBatch(context.Background(), s, popt, batch,
+	// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
+	ctx, stop := pipeline.SignalContext(context.Background())
+	defer stop()
+	rep, err := pipeline.RunBatch(ctx, s, popt, batch,
 		func(ctx context.Context, k int, frames pipeline.Frames, out *pipeline.Output) error {
 			f, err := frames.Frame(k)
 			if err != nil {
@@ -248,7 +274,12 @@ func (o *cleanFlags) run(e *env, fs *pflag.FlagSet, rd *readFlags, rf *runFlags,
 			return out.SetRecord(cleanRecord{Time: s.Time(k), File: names[k], Report: r})
 		})
 	if err != nil {
-		return err
+		if rep.Computed == 0 && rep.Reused == 0 {
+			// Nothing finished: a folder made by this run goes again, so bad input leaves no
+			// output behind.
+			removeNew(dir, created)
+		}
+		return batchError(err, rep)
 	}
 	m, err := pipeline.ReadManifest(dir)
 	if err != nil {

@@ -74,6 +74,9 @@ func (r *readFlags) options() (piv.ReadOptions, error) {
 	if r.maxNodes < 1 {
 		return piv.ReadOptions{}, usagef("--max-nodes %d: give the largest number of grid nodes to accept (at least 1)", r.maxNodes)
 	}
+	if r.maxFileBytes < 0 {
+		return piv.ReadOptions{}, usagef("--max-file-bytes %d: give the largest input file size in bytes to accept (0: no limit)", r.maxFileBytes)
+	}
 	var x0, y0, dx, dy float64
 	if r.plain {
 		o, err := parseFloats("--grid-origin", r.origin, 2, 2)
@@ -171,33 +174,84 @@ func batchError(err error, rep pipeline.Report) error {
 // that exists; with --resume the existing wakekit-NAME, and with --shard K/N
 // wakekit-NAME-shard-K-of-N).
 func (r *runFlags) outDir(name string, inputs []string) (string, error) {
-	dir := r.out
-	if dir == "" {
-		base := "."
-		if len(inputs) > 0 {
-			if st, err := os.Stat(inputs[0]); err == nil && st.IsDir() {
-				base = filepath.Dir(filepath.Clean(inputs[0]))
-			} else {
-				base = filepath.Dir(inputs[0])
-			}
-		}
-		dir = filepath.Join(base, "wakekit-"+name)
-		if sh, err := pipeline.ParseShard(r.shard); err == nil && !sh.IsAll() {
-			// Every shard of a job array gets its own fixed folder, found again by --resume.
-			dir = filepath.Join(base, fmt.Sprintf("wakekit-%s-shard-%d-of-%d", name, sh.K, sh.N))
-		}
-		for n := 2; !r.resume && r.shard == ""; n++ {
-			if _, err := os.Stat(dir); os.IsNotExist(err) {
-				break
-			}
-			dir = filepath.Join(base, fmt.Sprintf("wakekit-%s-%d", name, n))
-		}
+	dir, _, err := r.newOutDir(name, inputs)
+	return dir, err
+}
+
+// newOutDir is outDir that also reports whether the folder is new, made by this run; a command
+// that then fails before writing anything worth keeping removes it again (removeNew), so bad
+// input leaves no output behind.
+func (r *runFlags) newOutDir(name string, inputs []string) (dir string, created bool, err error) {
+	dir = r.outDirName(name, inputs)
+	if _, err := os.Stat(dir); os.IsNotExist(err) {
+		created = true
 	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return "", err
+		return "", false, err
 	}
-	return dir, nil
+	return dir, created, nil
 }
+
+// removeNew removes an output folder this run created, with what the run wrote into it.
+func removeNew(dir string, created bool) {
+	if created && dir != "" {
+		os.RemoveAll(dir)
+	}
+}
+
+func (r *runFlags) outDirName(name string, inputs []string) string {
+	if r.out != "" {
+		return r.out
+	}
+	base := "."
+	if len(inputs) > 0 {
+		if st, err := os.Stat(inputs[0]); err == nil && st.IsDir() {
+			base = filepath.Dir(filepath.Clean(inputs[0]))
+		} else {
+			base = filepath.Dir(inputs[0])
+		}
+	}
+	dir := filepath.Join(base, "wakekit-"+name)
+	if sh, err := pipeline.ParseShard(r.shard); err == nil && !sh.IsAll() {
+		// Every shard of a job array gets its own fixed folder, found again by --resume.
+		dir = filepath.Join(base, fmt.Sprintf("wakekit-%s-shard-%d-of-%d", name, sh.K, sh.N))
+	}
+	for n := 2; !r.resume && r.shard == ""; n++ {
+		if _, err := os.Stat(dir); os.IsNotExist(err) {
+			break
+		}
+		dir = filepath.Join(base, fmt.Sprintf("wakekit-%s-%d", name, n))
+	}
+	return dir
+}
+
+// checkNumber refuses a flag value that parses as a number but makes no sense: NaN or ±Inf
+// always, and values outside what the flag accepts (see numberRule). want says what to give,
+// e.g. "the pulsing period in s, e.g. 0.05".
+func checkNumber(flag string, v float64, rule numberRule, want string) error {
+	bad := ""
+	switch {
+	case math.IsNaN(v) || math.IsInf(v, 0):
+		bad = "is not a finite number"
+	case rule == positive && !(v > 0):
+		bad = "must be positive"
+	case rule == nonNegative && v < 0:
+		bad = "must not be negative"
+	}
+	if bad == "" {
+		return nil
+	}
+	return usagef("%s %g %s: give %s", flag, v, bad, want)
+}
+
+// numberRule is what checkNumber accepts besides finiteness.
+type numberRule int
+
+const (
+	anyFinite numberRule = iota
+	positive
+	nonNegative
+)
 
 // splitList splits a comma-separated flag value, dropping empty items.
 func splitList(s string) []string {

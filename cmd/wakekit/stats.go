@@ -89,7 +89,7 @@ func setupStats(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.BoolVar(&o.noPNG, "no-png", false, "do not write PNG maps")
 	rd := addReadFlags(fs)
 	rf := addRunFlags(fs)
-	return func(e *env, args []string) error { return o.run(e, rd, rf, args) }
+	return func(e *env, args []string) error { return o.run(e, rd, rf, args, fs.Changed("overlap")) }
 }
 
 type point struct{ x, y float64 }
@@ -106,7 +106,28 @@ func parsePoint(flag, s string) (point, error) {
 }
 
 // check validates the flags that need no data.
-func (o *statsFlags) check(rf *runFlags) (exit *point, probes []point, err error) {
+func (o *statsFlags) check(rf *runFlags, overlapSet bool) (exit *point, probes []point, err error) {
+	for _, c := range []struct {
+		flag string
+		v    float64
+		rule numberRule
+		want string
+	}{
+		{"--period", o.period, nonNegative, "the pulsing period in s, e.g. 0.05 (or omit it and give --exit X,Y to detect it)"},
+		{"--pod-max-gb", o.podMaxGB, positive, "the memory the snapshots may take in GB, e.g. 4"},
+		{"--diameter", o.diameter, nonNegative, "the length scale D in m, e.g. 0.02 (the nozzle diameter)"},
+		{"--velocity", o.velocity, nonNegative, "the velocity scale U in m/s, e.g. 0.4 (the jet velocity)"},
+	} {
+		if err := checkNumber(c.flag, c.v, c.rule, c.want); err != nil {
+			return nil, nil, err
+		}
+	}
+	if !math.IsNaN(o.phaseOrigin) && math.IsInf(o.phaseOrigin, 0) {
+		return nil, nil, usagef("--phase-origin %g is not a finite number: give the time of phase zero in s, e.g. 0.12", o.phaseOrigin)
+	}
+	if overlapSet && o.overlap < 0 {
+		return nil, nil, usagef("--overlap %d must not be negative: give the Welch segment overlap in frames, e.g. half of --segment", o.overlap)
+	}
 	switch {
 	case rf.shard != "" || rf.resume:
 		return nil, nil, usagef("--shard and --resume do not apply: statistics need the whole series at once")
@@ -114,13 +135,11 @@ func (o *statsFlags) check(rf *runFlags) (exit *point, probes []point, err error
 		return nil, nil, usagef("--min-count %d must be at least 1", o.minCount)
 	case o.phaseBins < 0 || o.phaseBins > 1000:
 		return nil, nil, usagef("--phase-bins %d must lie in 0..1000", o.phaseBins)
-	case o.period < 0 || !finite(o.period):
-		return nil, nil, usagef("--period %g must be positive", o.period)
 	case o.pod < 0:
 		return nil, nil, usagef("--pod %d must not be negative", o.pod)
-	case !(o.podMaxGB > 0):
-		return nil, nil, usagef("--pod-max-gb %g must be positive", o.podMaxGB)
-	case o.diameter < 0 || o.velocity < 0 || (o.diameter > 0) != (o.velocity > 0):
+	case o.podMaxGB > 1e6:
+		return nil, nil, usagef("--pod-max-gb %g: give the memory the snapshots may take in GB, e.g. 4 (at most 1e6)", o.podMaxGB)
+	case (o.diameter > 0) != (o.velocity > 0):
 		return nil, nil, usagef("give both --diameter and --velocity (positive) for the Strouhal number")
 	case o.segment < 0 || o.segment%2 != 0:
 		return nil, nil, usagef("--segment %d must be even (or 0 for automatic)", o.segment)
@@ -169,8 +188,8 @@ type probeSummaryEntry struct {
 	Filled   int           `json:"samples_filled"`
 }
 
-func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) error {
-	exit, probePts, err := o.check(rf)
+func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string, overlapSet bool) error {
+	exit, probePts, err := o.check(rf, overlapSet)
 	if err != nil {
 		return err
 	}
@@ -213,10 +232,6 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 			return usagef("--segment %d and --overlap %d do not fit a series of %d frames (segment 4..%d, overlap below it)", seg, overlap, N, N)
 		}
 	}
-	dir, err := rf.outDir("stats", args)
-	if err != nil {
-		return err
-	}
 	first, err := s.Frame(0)
 	if err != nil {
 		return err
@@ -228,11 +243,14 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 		}
 	}
 	load := func(ctx context.Context, k int, frames pipeline.Frames) (*piv.Field, error) { return frames.Frame(k) }
+	// SIGINT or SIGTERM stops reading; nothing is written before every frame has been read.
+	ctx, stop := pipeline.SignalContext(context.Background())
+	defer stop()
 
 	period, periodFrom := o.period, "--period"
 	if o.phaseBins > 0 && period == 0 {
 		ex := &stats.Probe{X: exit.x, Y: exit.y}
-		if _, err := pipeline.Run(context.Background(), s, popt, load, func(k int, f *piv.Field) error {
+		if _, err := pipeline.Run(ctx, s, popt, load, func(k int, f *piv.Field) error {
 			ex.Add(f)
 			return nil
 		}); err != nil {
@@ -276,7 +294,7 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 	for a, p := range probePts {
 		probes[a] = &stats.Probe{X: p.x, Y: p.y}
 	}
-	_, err = pipeline.Run(context.Background(), s, popt, load, func(k int, f *piv.Field) error {
+	_, err = pipeline.Run(ctx, s, popt, load, func(k int, f *piv.Field) error {
 		if err := mom.Add(f); err != nil {
 			return err
 		}
@@ -299,6 +317,43 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 		return err
 	}
 
+	// Everything that can fail on the data is computed before the output folder is made, and
+	// a folder this run made is removed again if writing fails, so no partial output is left.
+	var modes *stats.Modes
+	if pod != nil {
+		if modes, err = pod.Decompose(o.pod); err != nil {
+			return err
+		}
+	}
+	spectra := make([]*stats.ProbeSpectrum, len(probes))
+	strouhal := make([]float64, len(probes))
+	for a, p := range probes {
+		if spectra[a], err = p.Spectra(fs, seg, overlap); err != nil {
+			return err
+		}
+		if o.diameter > 0 {
+			if strouhal[a], err = stats.Strouhal(spectra[a].Dominant, o.diameter, o.velocity); err != nil {
+				return err
+			}
+		}
+	}
+	dir, created, err := rf.newOutDir("stats", args)
+	if err != nil {
+		return err
+	}
+	var summary strings.Builder
+	if err := o.write(&summary, dir, g, N, mom, phase, period, periodFrom, modes, probes, spectra, strouhal, seg); err != nil {
+		removeNew(dir, created)
+		return err
+	}
+	_, err = io.WriteString(e.stdout, summary.String())
+	return err
+}
+
+// write writes the outputs into dir and the summary for stdout into w.
+func (o *statsFlags) write(w io.Writer, dir string, g piv.Grid, N int, mom *stats.Moments, phase *stats.PhaseAverage,
+	period float64, periodFrom string, m *stats.Modes, probes []*stats.Probe, spectra []*stats.ProbeSpectrum,
+	strouhal []float64, seg int) error {
 	sum := statsSummary{Command: "stats", Version: version, Frames: N, Grid: g.String()}
 	res := mom.Result(o.minCount)
 	if err := writeMoments(filepath.Join(dir, "stats.csv"), res); err != nil {
@@ -309,8 +364,8 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 			sum.NodesWithAll++
 		}
 	}
-	fmt.Fprintf(e.stdout, "stats: %d frames, %s\n", N, g)
-	fmt.Fprintf(e.stdout, "  %d of %d nodes with at least %d valid samples\n", sum.NodesWithAll, g.N(), o.minCount)
+	fmt.Fprintf(w, "stats: %d frames, %s\n", N, g)
+	fmt.Fprintf(w, "  %d of %d nodes with at least %d valid samples\n", sum.NodesWithAll, g.N(), o.minCount)
 	written := []string{"stats.csv"}
 	if !o.noPNG {
 		speed, tke := piv.NaNs(g.N()), res.TKE
@@ -332,15 +387,11 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 		if err := writePhase(dir, phase, o.minCount); err != nil {
 			return err
 		}
-		fmt.Fprintf(e.stdout, "  phase average: period %.6g s (%s), %d bins\n", period, periodFrom, o.phaseBins)
+		fmt.Fprintf(w, "  phase average: period %.6g s (%s), %d bins\n", period, periodFrom, o.phaseBins)
 		written = append(written, "phase.csv", "phase_NN.csv")
 	}
 
-	if pod != nil {
-		m, err := pod.Decompose(o.pod)
-		if err != nil {
-			return err
-		}
+	if m != nil {
 		cum := m.Cumulative()
 		sum.PODNodes = m.Nodes
 		for k := 0; k < o.pod; k++ {
@@ -350,20 +401,17 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 		if err := writePOD(dir, m, o.pod, !o.noPNG); err != nil {
 			return err
 		}
-		fmt.Fprintf(e.stdout, "  POD over %d nodes valid in every frame: first %d modes hold %.2f%% of the fluctuation energy\n",
+		fmt.Fprintf(w, "  POD over %d nodes valid in every frame: first %d modes hold %.2f%% of the fluctuation energy\n",
 			m.Nodes, o.pod, 100*cum[o.pod-1])
 		for k := 0; k < min(o.pod, 5); k++ {
-			fmt.Fprintf(e.stdout, "    mode %d: %.3g m^2/s^2 (%.2f%%, cumulative %.2f%%)\n", k+1, m.Energies[k],
+			fmt.Fprintf(w, "    mode %d: %.3g m^2/s^2 (%.2f%%, cumulative %.2f%%)\n", k+1, m.Energies[k],
 				100*m.Share(k), 100*cum[k])
 		}
 		written = append(written, "pod_energy.csv", "pod_mode_NN.csv", "pod_coefficients.csv")
 	}
 
 	for a, p := range probes {
-		ps, err := p.Spectra(fs, seg, overlap)
-		if err != nil {
-			return err
-		}
+		ps := spectra[a]
 		name := fmt.Sprintf("spectrum_probe%d.csv", a+1)
 		if err := writeSpectrum(filepath.Join(dir, name), ps); err != nil {
 			return err
@@ -372,16 +420,13 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 		line := fmt.Sprintf("  probe %d at (%g, %g) m: dominant frequency %.4g Hz (bin %.3g Hz, %d segments of %d frames)",
 			a+1, p.X, p.Y, ps.Dominant, ps.U.DF, ps.U.Segments, seg)
 		if o.diameter > 0 {
-			st, err := stats.Strouhal(ps.Dominant, o.diameter, o.velocity)
-			if err != nil {
-				return err
-			}
+			st := strouhal[a]
 			entry.Strouhal = piv.JSONFloat(st)
 			line += fmt.Sprintf(", Strouhal number %.4g", st)
 		}
-		fmt.Fprintln(e.stdout, line)
+		fmt.Fprintln(w, line)
 		if entry.Filled > 0 {
-			fmt.Fprintf(e.stdout, "    (%d frames without data at the probe filled in time)\n", entry.Filled)
+			fmt.Fprintf(w, "    (%d frames without data at the probe filled in time)\n", entry.Filled)
 		}
 		sum.Probes = append(sum.Probes, entry)
 		written = append(written, name)
@@ -390,7 +435,7 @@ func (o *statsFlags) run(e *env, rd *readFlags, rf *runFlags, args []string) err
 		return err
 	}
 	written = append(written, "stats.json")
-	fmt.Fprintf(e.stdout, "wrote %s (%s)\n", dir, strings.Join(written, ", "))
+	fmt.Fprintf(w, "wrote %s (%s)\n", dir, strings.Join(written, ", "))
 	return nil
 }
 
