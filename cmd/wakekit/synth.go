@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -257,11 +258,23 @@ func (o *synthFlags) setup(fs *pflag.FlagSet, name string) (*synthFlow, piv.Grid
 	if o.frames < 1 || o.frames > 1_000_000 {
 		return nil, g, nil, usagef("--frames %d must be between 1 and 1000000", o.frames)
 	}
-	if !finite(o.t0) || (o.frames > 1 && !(o.dt > 0 && finite(o.dt))) {
-		return nil, g, nil, usagef("--dt must be positive and --t0 finite")
+	if !(o.dt > 0) || !finite(o.dt) {
+		return nil, g, nil, usagef("--dt %g: give the time between frames as a positive number of seconds, e.g. 0.01", o.dt)
 	}
-	if !(o.rho > 0) || !finite(o.rho) || !(o.nu >= 0) || !finite(o.nu) {
-		return nil, g, nil, usagef("--rho must be positive and --nu zero or positive")
+	if !finite(o.t0) {
+		return nil, g, nil, usagef("--t0 %g: give the time of the first frame as a finite number of seconds", o.t0)
+	}
+	if !(o.rho > 0) || !finite(o.rho) {
+		return nil, g, nil, usagef("--rho %g: give the density as a positive number of kg/m^3, e.g. 998.2 for water at 20 C", o.rho)
+	}
+	if !(o.nu >= 0) || !finite(o.nu) {
+		return nil, g, nil, usagef("--nu %g: give the kinematic viscosity as zero (steady) or a positive number of m^2/s, e.g. 1e-6", o.nu)
+	}
+	if o.noise.Window < 1 {
+		return nil, g, nil, usagef("--window %d: give the interrogation window as an odd number of nodes (1 for none, 3, 5, ...)", o.noise.Window)
+	}
+	if !fs.Changed("noise-px") && (fs.Changed("pixel-size") || fs.Changed("pulse-separation")) {
+		return nil, g, nil, usagef("--pixel-size and --pulse-separation only convert --noise-px to m/s; give --noise-px too, or --noise in m/s instead")
 	}
 	if o.format != "csv" && o.format != "vtk" {
 		return nil, g, nil, usagef("--format %q: expected csv or vtk", o.format)
@@ -292,8 +305,50 @@ func (o *synthFlags) setup(fs *pflag.FlagSet, name string) (*synthFlow, piv.Grid
 	return sf, g, times, nil
 }
 
+// synthFlowFlags names, for each flag that sets a parameter of some flows only, the flows it
+// applies to; giving it for another flow is a usage error rather than silently ignored.
+var synthFlowFlags = []struct {
+	flag  string
+	flows []string
+}{
+	{"gamma", []string{"lamb-oseen", "rankine", "pair"}},
+	{"core-radius", []string{"lamb-oseen", "rankine", "pair"}},
+	{"nu", []string{"lamb-oseen", "pair", "taylor-green"}},
+	{"separation", []string{"pair"}},
+	{"speed", []string{"taylor-green", "hill", "uniform"}},
+	{"radius", []string{"hill"}},
+	{"wavelength", []string{"taylor-green"}},
+	{"omega", []string{"rotation"}},
+	{"co-moving", []string{"hill"}},
+	{"drift", []string{"lamb-oseen", "rankine", "uniform"}},
+}
+
+// checkFlowFlags refuses flow parameters given for a flow that does not take them.
+func checkFlowFlags(fs *pflag.FlagSet, name string) error {
+	known := false
+	for _, f := range synthFlows {
+		known = known || f == name
+	}
+	if !known {
+		return nil // the caller reports the unknown flow
+	}
+	for _, ff := range synthFlowFlags {
+		if !fs.Changed(ff.flag) || slices.Contains(ff.flows, name) {
+			continue
+		}
+		return usagef("--%s does not apply to %s (it is a parameter of %s)", ff.flag, name, strings.Join(ff.flows, ", "))
+	}
+	return nil
+}
+
+// synthFlows are the flows synth writes.
+var synthFlows = []string{"lamb-oseen", "rankine", "pair", "taylor-green", "hill", "uniform", "rotation"}
+
 // flow builds the named flow from the flags.
 func (o *synthFlags) flow(fs *pflag.FlagSet, name string, times []float64) (*synthFlow, error) {
+	if err := checkFlowFlags(fs, name); err != nil {
+		return nil, err
+	}
 	cx, cy, err := parsePair("--center", o.center, false)
 	if err != nil {
 		return nil, err
@@ -384,6 +439,9 @@ func (o *synthFlags) flow(fs *pflag.FlagSet, name string, times []float64) (*syn
 		sf.exact = []synthValue{{"circulation", "m^2/s", f.TotalCirculation()}, {"impulse", "kg m/s", f.Impulse()},
 			{"peak vorticity", "1/s", f.Vorticity(f.Centre(t0), cy+o.radius, t0)}}
 	case "uniform":
+		if !finite(o.speed) {
+			return nil, usagef("--speed %g must be a finite number of m/s", o.speed)
+		}
 		sf.flow = analytic.Uniform{U: o.speed + uc, V: vc}
 		sf.params = []synthValue{{"u", "m/s", o.speed + uc}, {"v", "m/s", vc}}
 	case "rotation":

@@ -186,6 +186,49 @@ func TestSynthBadUsage(t *testing.T) {
 	}
 }
 
+// Nonsense values and parameters of another flow are refused with a message that names the
+// flag; each flow accepts every parameter its help lists.
+func TestSynthFlagMessages(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"lamb-oseen", "--dt", "-1"}, "--dt -1: give the time between frames"},
+		{[]string{"lamb-oseen", "--dt", "NaN"}, "--dt NaN"},
+		{[]string{"lamb-oseen", "--t0", "Inf"}, "--t0 +Inf"},
+		{[]string{"uniform", "--speed", "NaN"}, "--speed NaN must be a finite number"},
+		{[]string{"lamb-oseen", "--radius", "0.01"}, "--radius does not apply to lamb-oseen (it is a parameter of hill)"},
+		{[]string{"rankine", "--nu", "1e-6"}, "--nu does not apply to rankine"},
+		{[]string{"taylor-green", "--omega", "NaN"}, "--omega does not apply to taylor-green"},
+		{[]string{"lamb-oseen", "--window", "0"}, "--window 0: give the interrogation window as an odd number"},
+		{[]string{"lamb-oseen", "--pixel-size", "1e-5"}, "give --noise-px too"},
+		{[]string{"lamb-oseen", "--rho", "-1000"}, "--rho -1000: give the density as a positive number"},
+		{[]string{"pair", "--nu", "-1"}, "--nu -1: give the kinematic viscosity"},
+	} {
+		dir := filepath.Join(t.TempDir(), "out")
+		code, _, errs := runCapture(append(append([]string{"synth"}, c.args...), "-o", dir)...)
+		if code != 2 || !strings.Contains(errs, c.want) {
+			t.Errorf("%v: status %d, stderr %q; want 2 and %q", c.args, code, errs, c.want)
+		}
+		if _, err := os.Stat(dir); err == nil {
+			t.Errorf("%v: output folder created", c.args)
+		}
+	}
+	values := map[string]string{"gamma": "0.02", "core-radius": "4e-3", "nu": "1e-6", "separation": "0.02", "speed": "0.05",
+		"radius": "0.01", "wavelength": "0.032", "omega": "2", "drift": "0.01,0"}
+	for _, ff := range synthFlowFlags {
+		for _, flow := range ff.flows {
+			args := []string{"synth", flow, "--grid", "8x6", "-q", "-o", filepath.Join(t.TempDir(), "out"), "--" + ff.flag}
+			if v, ok := values[ff.flag]; ok {
+				args[len(args)-1] += "=" + v
+			}
+			if code, _, errs := runCapture(args...); code != 0 {
+				t.Errorf("%v: status %d, %s", args, code, errs)
+			}
+		}
+	}
+}
+
 func TestSynthVTK(t *testing.T) {
 	dir := t.TempDir()
 	if code, _, errs := runCapture("synth", "taylor-green", "--grid", "16x16", "--format", "vtk", "-o", dir); code != 0 {
