@@ -2,8 +2,10 @@ package piv
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"sync"
@@ -41,7 +43,15 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) error {
 	dir := filepath.Dir(path)
 	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
 	if err != nil {
-		return err
+		// The temporary name means nothing to the user: say which file and why.
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		if errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("%s: cannot write: the folder %s does not exist", path, dir)
+		}
+		return fmt.Errorf("%s: cannot write: %v", path, err)
 	}
 	name := tmp.Name()
 	fail := func(err error) error {

@@ -180,4 +180,10 @@ func TestWriteFileAtomic(t *testing.T) {
 	if err := WriteFileAtomic(in, func(w io.Writer) error { return nil }); err == nil {
 		t.Error("WriteFileAtomic wrote over an input file")
 	}
+	// A missing folder is named in the error, not the temporary file's name.
+	missing := filepath.Join(dir, "no-such-folder", "out.json")
+	err := WriteFileAtomic(missing, func(w io.Writer) error { return nil })
+	if err == nil || !strings.Contains(err.Error(), missing+": cannot write: the folder "+filepath.Dir(missing)+" does not exist") || strings.Contains(err.Error(), ".tmp") {
+		t.Errorf("write into a missing folder: error %v", err)
+	}
 }
