@@ -48,6 +48,9 @@ Examples:
 				if err != nil {
 					return err
 				}
+				if *workers < 0 {
+					return usagef("--workers %d: give the number of frames to read at once (0: all cores)", *workers)
+				}
 				var progress io.Writer
 				if e.stderrTTY {
 					progress = e.stderr
@@ -194,6 +197,19 @@ func nanMax(a, b float64) float64 {
 	return math.Max(a, b)
 }
 
+// geometryHint suggests --axisymmetric when the second coordinate column is named as a
+// radius but the plane was read as planar (every cylindrical term would then be left out).
+func (r *inspectReport) geometryHint() string {
+	if len(r.Columns) < 2 || r.Geometry != (piv.Geometry{}).String() {
+		return ""
+	}
+	name, _ := piv.SplitHeader(r.Columns[1])
+	if strings.ToLower(strings.TrimSpace(name)) != "r" {
+		return ""
+	}
+	return fmt.Sprintf("the second coordinate is named %q: if the plane is the meridional plane of an axisymmetric flow, add --axisymmetric (and --axis Y when the axis is not y = 0)", r.Columns[1])
+}
+
 func (r *inspectReport) print(w io.Writer) {
 	line := func(label, format string, args ...any) {
 		fmt.Fprintf(w, "%-12s %s\n", label, fmt.Sprintf(format, args...))
@@ -225,6 +241,9 @@ func (r *inspectReport) print(w io.Writer) {
 	line("grid", "%d x %d nodes, spacing %.6g x %.6g m", r.NX, r.NY, r.DX, r.DY)
 	line("extent", "x %.6g .. %.6g m, y %.6g .. %.6g m", r.XMin, r.XMax, r.YMin, r.YMax)
 	line("geometry", "%s", r.Geometry)
+	if h := r.geometryHint(); h != "" {
+		line("hint", "%s", h)
+	}
 	line("valid", "%.1f%% of %d nodes (%d measured, %d replaced, %d missing, %d solid)",
 		100*float64(r.ValidShare), r.Nodes, r.Measured, r.Replaced, r.Missing, r.Solid)
 	if r.Measured+r.Replaced > 0 {

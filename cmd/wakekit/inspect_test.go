@@ -201,3 +201,33 @@ func TestInspectMalformedInputs(t *testing.T) {
 		})
 	}
 }
+
+// A table whose second coordinate is named r, read as planar, gets a hint to add
+// --axisymmetric; read with it, or with a y column, it does not. A negative --workers is a
+// usage error.
+func TestInspectAxisymmetricHint(t *testing.T) {
+	dir := t.TempDir()
+	grid := "0,0,1,0\n1,0,1,0\n0,1,1,0\n1,1,1,0\n"
+	rfile, yfile := filepath.Join(dir, "r.csv"), filepath.Join(dir, "y.csv")
+	os.WriteFile(rfile, []byte("x [mm],r [mm],u,v\n"+grid), 0o644)
+	os.WriteFile(yfile, []byte("x,y,u,v\n"+grid), 0o644)
+	for _, c := range []struct {
+		args []string
+		hint bool
+	}{
+		{[]string{rfile}, true},
+		{[]string{"--axisymmetric", rfile}, false},
+		{[]string{yfile}, false},
+	} {
+		code, stdout, stderr := runCapture(append([]string{"inspect"}, c.args...)...)
+		if code != 0 {
+			t.Fatalf("%v: status %d: %s", c.args, code, stderr)
+		}
+		if got := strings.Contains(stdout, `hint         the second coordinate is named "r [mm]"`) && strings.Contains(stdout, "--axisymmetric"); got != c.hint {
+			t.Errorf("%v: hint shown %v, want %v:\n%s", c.args, got, c.hint, stdout)
+		}
+	}
+	if code, _, stderr := runCapture("inspect", "--all", "--workers", "-1", yfile); code != 2 || !strings.Contains(stderr, "--workers -1") {
+		t.Errorf("negative --workers: status %d, %s", code, stderr)
+	}
+}
