@@ -94,16 +94,26 @@ func setupVortices(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return usagef("--scheme: %v", err)
 		}
 		if !math.IsNaN(*thr) {
-			if math.IsInf(*thr, 0) || (st.crit == circulation.Gamma2 && !(*thr > 0 && *thr < 1)) {
-				return usagef("--threshold %g: give a finite value (between 0 and 1 for gamma2)", *thr)
+			// Q > threshold, lambda2 < -threshold and swirl > threshold: a negative threshold
+			// would take in strain-dominated fluid, which is not a core.
+			if math.IsInf(*thr, 0) || *thr < 0 || (st.crit == circulation.Gamma2 && !(*thr > 0 && *thr < 1)) {
+				return usagef("--threshold %g: give a finite value, between 0 and 1 for gamma2 and 0 or more for q, lambda2 and swirl", *thr)
 			}
 			st.detect.Threshold, st.detect.SetThreshold = *thr, true
 		}
-		if *minNodes < 1 || *gr < 1 || *maxGap < 0 || *smooth < 2 {
-			return usagef("--min-nodes and --gamma-radius must be at least 1, --max-gap at least 0 and --smooth at least 2")
-		}
-		if *gate < 0 || math.IsNaN(*gate) || !(*rho > 0) || math.IsInf(*rho, 0) {
-			return usagef("--gate must not be negative and --rho must be positive")
+		switch {
+		case *minNodes < 1:
+			return usagef("--min-nodes %d: give the smallest core to keep as at least 1 node", *minNodes)
+		case *gr < 1 || *gr > 50:
+			return usagef("--gamma-radius %d must be between 1 and 50 nodes", *gr)
+		case *maxGap < 0:
+			return usagef("--max-gap %d: give the frames a track may go unseen as 0 or more", *maxGap)
+		case *smooth < 2:
+			return usagef("--smooth %d: the line that smooths the convection velocity needs at least 2 points", *smooth)
+		case *gate < 0 || math.IsNaN(*gate) || math.IsInf(*gate, 0):
+			return usagef("--gate %g: give the largest jump as a distance in m (0: 1.5 equivalent radii)", *gate)
+		case !(*rho > 0) || math.IsInf(*rho, 0):
+			return usagef("--rho %g: give the density as a positive number of kg/m^3, e.g. 998.2 for water at 20 C", *rho)
 		}
 		switch *format {
 		case "":

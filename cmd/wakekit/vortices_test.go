@@ -103,3 +103,37 @@ func TestVorticesCommandRing(t *testing.T) {
 		t.Errorf("no ring table on stdout:\n%s", stdout)
 	}
 }
+
+// Nonsense settings are usage errors (status 2) naming the flag and its value, before any
+// output is made.
+func TestVorticesFlagNonsense(t *testing.T) {
+	files := writeFrames(t, analytic.LambOseen{Gamma: 1e-3, CoreRadius: 0.004}, piv.Grid{NX: 21, NY: 21, X0: -0.01, Y0: -0.01, DX: 1e-3, DY: 1e-3}, 2, 0.01)
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--criterion", "q", "--threshold", "-1"}, "--threshold -1"},
+		{[]string{"--criterion", "lambda2", "--threshold", "-5"}, "--threshold -5"},
+		{[]string{"--threshold", "1.5"}, "--threshold 1.5"},
+		{[]string{"--threshold", "Inf"}, "--threshold +Inf"},
+		{[]string{"--gate", "Inf"}, "--gate +Inf"},
+		{[]string{"--gate", "-0.01"}, "--gate -0.01"},
+		{[]string{"--gamma-radius", "0"}, "--gamma-radius 0"},
+		{[]string{"--gamma-radius", "1000"}, "--gamma-radius 1000"},
+		{[]string{"--min-nodes", "0"}, "--min-nodes 0"},
+		{[]string{"--max-gap", "-1"}, "--max-gap -1"},
+		{[]string{"--smooth", "1"}, "--smooth 1"},
+		{[]string{"--rho", "NaN"}, "--rho NaN"},
+		{[]string{"--rho", "-1000"}, "--rho -1000"},
+	} {
+		out := filepath.Join(t.TempDir(), "out")
+		args := append(append([]string{"vortices", "-q", "--dt", "0.01", "-o", out}, c.args...), files...)
+		code, _, stderr := runCapture(args...)
+		if code != 2 || !strings.Contains(stderr, c.want) {
+			t.Errorf("%v: status %d, stderr %q; want 2 naming %q", c.args, code, stderr, c.want)
+		}
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			t.Errorf("%v: output folder made", c.args)
+		}
+	}
+}
