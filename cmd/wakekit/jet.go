@@ -40,13 +40,21 @@ Saffman check. Every figure carries a one-sigma uncertainty from Monte-Carlo res
 series with velocity noise of --noise m/s (estimated from the data's small-scale residual when
 not given), seeded by --seed.
 
+Solid walls: --nozzle X,R_IN,R_OUT marks the nozzle wall (x <= X, R_IN <= |y - axis| <= R_OUT)
+solid in every frame, and --mask FILE the nodes that a file on the frames' grid marks "solid"
+in its status column, as in "wakekit pressure". Solid nodes are left out of every derivative,
+integral, the noise estimate and the pressure solve, and drawn on the vorticity maps. When the
+grid column at the exit plane lies on the wall's end face, the exit is measured at the next
+column (the summary gives exit_station_x_m); a mask reaching beyond the exit station is refused.
+
 Writes summary.json, timeseries.csv, PNG plots and report.html into the output folder, and
 prints the summary table.
 
 Examples:
   wakekit jet run07/frames.csv --axisymmetric --axis 0 --exit 0 --diameter 0.025 --lip 0.01375 --out run07-jet
   wakekit jet 'slot/*.csv' --slot --axis 0.04 --exit 0.002 --diameter 0.01 --noise 0.002 --label "slot B" --param s_over_D=1.5
-  wakekit jet frames/ --axisymmetric --exit 0 --diameter 0.02 --pulse 0.1,1.9 --no-pressure -q`,
+  wakekit jet frames/ --axisymmetric --exit 0 --diameter 0.02 --pulse 0.1,1.9 --no-pressure -q
+  wakekit jet tank/run3/frames.csv --axisymmetric --exit 0.012 --diameter 0.025 --lip 0.0135 --nozzle 0.012,0.0125,0.0135`,
 		setup: setupJet,
 	})
 }
@@ -63,7 +71,8 @@ type jetSettings struct {
 	seed        uint64
 	smooth      int
 	noPressure  bool
-	restTime    float64 // time the tank was at rest (NaN: unknown)
+	solid       *solidMask // solid nodes applied to every frame, or nil
+	restTime    float64    // time the tank was at rest (NaN: unknown)
 	label       string
 	params      map[string]string
 	title       string // report title
@@ -92,6 +101,7 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.BoolVar(&s.noPressure, "no-pressure", false, "skip the pressure reconstruction (route (a) is then not computed)")
 	fs.StringVar(&rest, "rest", "", "time [s] at which the fluid was at rest, before the first frame (improves the first frames' acceleration)")
 	fs.StringVar(&s.label, "label", "", "label of this run, recorded in the summary (for compare)")
+	sf := addSolidFlags(fs)
 	fs.StringArrayVar(&params, "param", nil, "run parameter KEY=VALUE recorded in the summary (repeatable; for compare --by KEY)")
 	return func(e *env, args []string) error {
 		s.seed = uint64(seed)
@@ -106,6 +116,10 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return usagef("--diameter is required")
 		}
 		if err := s.checkValues(fs.Changed("lip")); err != nil {
+			return err
+		}
+		var err error
+		if s.solid, err = sf.parse(rf.axis); err != nil {
 			return err
 		}
 		if run.workers < 0 {
@@ -125,13 +139,25 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 			}
 			s.restTime = t
 		}
-		var err error
 		if s.params, err = parseParams(params); err != nil {
 			return err
 		}
 		series, err := rf.open(args)
 		if err != nil {
 			return err
+		}
+		if s.solid != nil {
+			opt, err := rf.options()
+			if err != nil {
+				return err
+			}
+			first, err := series.Frame(0)
+			if err != nil {
+				return err
+			}
+			if err := s.solid.load(first, opt); err != nil {
+				return err
+			}
 		}
 		var dir string
 		// The output folder is made only once the analysis has succeeded, so a failed run
@@ -235,21 +261,50 @@ type jetOutcome struct {
 	files      []string
 	axi        bool
 	frameCount int
-	seriesRef  *piv.Series // for the snapshot maps
+	seriesRef  *piv.Series            // for the snapshot maps (with the solid mask applied)
+	measure    circulation.ExitConfig // the exit as measured: X moved off a wall's end face
+	stationX   float64                // x of the exit station column [m]
 }
 
 // runJet analyses the series and writes the outputs into the folder dirFn returns, which it
 // calls only after the analysis succeeded.
 func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run *runFlags, inputs []string, dirFn func() (string, error)) (*jetOutcome, error) {
+	if s.solid != nil {
+		var err error
+		if series, err = maskedSeries(series, s.solid.shape); err != nil {
+			return nil, err
+		}
+	}
 	first, err := series.Frame(0)
 	if err != nil {
 		return nil, err
 	}
 	axi := first.Geometry.Axisymmetric
-	if _, err := circulation.ExitStation(first.Grid, s.exit); err != nil {
+	out := &jetOutcome{settings: s, axi: axi, frameCount: series.Len(), seriesRef: series, measure: s.exit}
+	i0, err := circulation.ExitStation(first.Grid, s.exit)
+	if err != nil {
 		return nil, fmt.Errorf("%s: %w", first.Name(), err)
 	}
-	out := &jetOutcome{settings: s, axi: axi, frameCount: series.Len(), seriesRef: series}
+	if s.solid != nil {
+		g := first.Grid
+		if solidColumns(first)[i0] {
+			// The column at the exit plane lies on the end face of the wall: the exit is
+			// measured at the next column, the first one wholly in the fluid.
+			if i0+3 >= g.NX {
+				return nil, fmt.Errorf("%s: the column x = %g m at the exit plane holds solid nodes and the view has too few columns downstream of it", first.Name(), g.X(i0))
+			}
+			i0++
+			out.measure.X = g.X(i0)
+			out.notDone = append(out.notDone, fmt.Sprintf("The grid column at the exit plane (x = %s) lies on the end face of the solid wall, so the exit program, the budgets in view and route (a) are measured at the next column, x = %s, one spacing downstream.",
+				report.Format(g.X(i0-1), math.NaN(), "m"), report.Format(g.X(i0), math.NaN(), "m")))
+		}
+		if x, y, ok := firstSolidDownstream(first, i0); ok {
+			return nil, fmt.Errorf("%s: the solid mask (%s) reaches the exit station or beyond it (a solid node at x = %g m, y = %g m, station x = %g m): the circulation and impulse in view are line integrals along every column from the station on, which must lie in the fluid; mask only the wall upstream of the exit plane",
+				first.Name(), s.solid.describe, x, y, g.X(i0))
+		}
+	}
+	out.stationX = first.Grid.X(i0)
+	meas := out.measure
 	// Noise level for the uncertainties.
 	out.noise, out.noiseFrom = s.noise, "given (--noise)"
 	if s.noise < 0 {
@@ -282,9 +337,9 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	if !s.noPressure {
 		o := pressure.FrameOptions{
 			Accel: pressure.AccelOptions{Method: pressure.Eulerian},
-			Fluid: pressure.Fluid{Rho: s.exit.Rho, Nu: s.exit.Nu},
+			Fluid: pressure.Fluid{Rho: meas.Rho, Nu: meas.Nu},
 			Solve: pressure.Options{Dirichlet: pressure.Right | pressure.Top},
-			Exit:  &pressure.Exit{X: s.exit.X, Radius: s.exit.Diameter / 2, Axis: s.exit.AxisY},
+			Exit:  &pressure.Exit{X: meas.X, Radius: meas.Diameter / 2, Axis: meas.AxisY},
 		}
 		if axi {
 			o.Reference = pressure.Source
@@ -313,7 +368,7 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 			return jetFrame{}, err
 		}
 		var jf jetFrame
-		if jf.rec, err = measureJetFrame(f, s.exit); err != nil {
+		if jf.rec, err = measureJetFrame(f, meas); err != nil {
 			return jf, err
 		}
 		jf.rec.PressureA = math.NaN()
@@ -332,7 +387,7 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 			if err != nil {
 				return jf, err
 			}
-			rr, err := measureJetFrame(c, s.exit)
+			rr, err := measureJetFrame(c, meas)
 			if err != nil {
 				return jf, err
 			}
@@ -366,7 +421,7 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	if len(recs) < 4 {
 		return nil, fmt.Errorf("the series has %d frames; the jet budget needs at least 4", len(recs))
 	}
-	out.series = circulation.BudgetHistories(recs, s.exit, s.smooth)
+	out.series = circulation.BudgetHistories(recs, meas, s.smooth)
 	var pulses []circulation.Pulse
 	if s.pulse != "" {
 		a, b := s.pulseT[0], s.pulseT[1]
@@ -379,13 +434,13 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 		pulses = circulation.PulseDetect(out.series.T, out.series.U0, s.threshold)
 		if len(pulses) == 0 {
 			return nil, fmt.Errorf("no pulse found: the exit velocity at x = %g m never exceeds %g of its peak; check --exit, --axis and --diameter",
-				s.exit.X, s.threshold)
+				meas.X, s.threshold)
 		}
 	}
-	out.pulses = circulation.BudgetPulses(out.series, pulses, s.exit, axi)
+	out.pulses = circulation.BudgetPulses(out.series, pulses, meas, axi)
 	reps := make([][]circulation.BudgetPulse, samples)
 	for r := range reps {
-		h := circulation.BudgetHistories(repRecs[r], s.exit, s.smooth)
+		h := circulation.BudgetHistories(repRecs[r], meas, s.smooth)
 		// Each replica finds its own pulses, so the detection's sensitivity to noise enters the
 		// spread; a replica that splits the record differently keeps the measured pulses.
 		rp := pulses
@@ -399,7 +454,7 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 			// route (a) figures take their spread from the pressure replicas only.
 			copy(h.PressureA, out.series.PressureA)
 		}
-		reps[r] = circulation.BudgetPulses(h, rp, s.exit, axi)
+		reps[r] = circulation.BudgetPulses(h, rp, meas, axi)
 	}
 	for q, p := range out.pulses {
 		base := p.Figures()
@@ -533,9 +588,15 @@ func (o *jetOutcome) summary(inputs []string) jsonSummary {
 			"exit_x_m": s.exit.X, "diameter_m": s.exit.Diameter, "lip_outer_m": s.exit.LipOuter,
 			"axis_y_m": s.exit.AxisY, "rho_kg_m3": s.exit.Rho, "nu_m2_s": s.exit.Nu,
 			"threshold": s.threshold, "pulse": s.pulse, "smooth_frames": s.smooth, "pressure": !s.noPressure,
+			"exit_station_x_m": o.stationX,
 		},
 		Noise:       map[string]any{"sigma_m_s": num(o.noise), "source": o.noiseFrom, "samples": s.samples, "seed": s.seed},
 		NotMeasured: o.notDone,
+	}
+	if s.solid != nil {
+		for k, v := range s.solid.settings() {
+			js.Settings[k] = v
+		}
 	}
 	if js.Params == nil {
 		js.Params = map[string]string{}
@@ -763,13 +824,36 @@ func jetSnapshots(o *jetOutcome) ([]jetPlot, error) {
 		Rout = R * 1.05
 	}
 	var out []jetPlot
+	yName, caption := "y", "Vorticity (central differences) with velocity arrows"
+	if o.axi {
+		yName, caption = "r", "Azimuthal vorticity (central differences) with velocity arrows"
+	}
+	wall := []report.Overlay{{Label: "nozzle lip", Kind: report.Path, X: []float64{c.X, c.X}, Y: []float64{axis + R, axis + Rout}}}
+	caption += ", the nozzle lip at the exit plane"
+	if sm := o.settings.solid; sm != nil {
+		caption = strings.TrimSuffix(caption, ", the nozzle lip at the exit plane")
+		g := fields[0].Grid
+		if n, ok := sm.shape.(pressure.Nozzle); ok {
+			x0 := math.Min(g.X0-g.DX/2, n.X)
+			wall = []report.Overlay{report.RectOverlay("nozzle wall", x0, n.Axis+n.RIn, n.X, n.Axis+n.ROut)}
+			if lo := n.Axis - n.ROut; lo >= g.Y0-g.DY/2 {
+				w := report.RectOverlay("", x0, lo, n.X, n.Axis-n.RIn)
+				wall = append(wall, w)
+			}
+			caption += ", the masked nozzle wall (outline; its nodes, solid, in grey)"
+		} else {
+			wall = nil
+			caption += ", the solid nodes of the mask in grey"
+		}
+	}
+	caption += " and the leading ring's core."
 	for n, k := range ks {
-		ov := []report.Overlay{{Label: "nozzle lip", Kind: report.Path, X: []float64{c.X, c.X}, Y: []float64{axis + R, axis + Rout}}}
+		ov := append([]report.Overlay(nil), wall...)
 		if x, r := o.series.RingX[k], o.series.CoreR[k]; !math.IsNaN(x) && !math.IsNaN(r) {
 			ov = append(ov, report.Overlay{Label: "ring core", Kind: report.Markers, X: []float64{x}, Y: []float64{axis + r}})
 		}
 		m := report.MapPlot{Grid: fields[n].Grid, Values: omegas[n], Title: fmt.Sprintf("vorticity at t = %.3g s", t[k]),
-			Unit: "1/s", Signed: true, Min: -lim, Max: lim, YName: "r", Arrows: fields[n], Overlays: ov}
+			Unit: "1/s", Signed: true, Min: -lim, Max: lim, YName: yName, Arrows: fields[n], Overlays: ov}
 		b, err := m.PNG(900, 450)
 		if err != nil {
 			o.notDone = append(o.notDone, fmt.Sprintf("The vorticity map at t = %.3g s was not drawn: %v.", t[k], err))
@@ -777,7 +861,7 @@ func jetSnapshots(o *jetOutcome) ([]jetPlot, error) {
 		}
 		out = append(out, jetPlot{file: fmt.Sprintf("vorticity_%d.png", n+1), img: report.Image{
 			Title:   fmt.Sprintf("Vorticity at t = %.3g s", t[k]),
-			Caption: "Azimuthal vorticity (central differences) with velocity arrows, the nozzle lip at the exit plane and the leading ring's core.",
+			Caption: caption,
 			PNG:     b}})
 	}
 	return out, nil
@@ -819,6 +903,9 @@ func jetReport(o *jetOutcome, js jsonSummary, plots []jetPlot) *report.Report {
 	}
 	r.Settings = append(r.Settings, [2]string{"noise sigma", report.Format(o.noise, math.NaN(), "m/s").String() + " (" + o.noiseFrom + ")"},
 		[2]string{"Monte-Carlo replicas, seed", fmt.Sprintf("%d, %d", s.samples, s.seed)})
+	if s.solid != nil {
+		r.Settings = append(r.Settings, [2]string{"solid mask", fmt.Sprintf("%s: %d nodes in every frame", s.solid.describe, s.solid.nodes)})
+	}
 	r.Methods = jetMethods
 	r.Unmeasured = o.notDone
 	r.Cautions = report.DefaultCautions
