@@ -207,8 +207,14 @@ type PhaseImpulse struct {
 
 // PulseImpulses integrates the momentum flux m and pressure force p over the whole record and
 // over each pulse found in the exit flux q (see Pulses), split into its acceleration, hold and
-// deceleration phases. A pulse runs from where the flux starts rising before it crosses the
-// threshold to where it stops falling after it drops below it (or the record's ends).
+// deceleration phases, followed by the time after the pulse up to the next pulse or the end of
+// the record. A pulse starts where the flux starts rising before it crosses the threshold (a
+// start from rest is counted from the rest) and ends where the falling flux crosses the
+// threshold (linearly interpolated between frames). The flux that trails below the threshold
+// after the nozzle has stopped is mostly the flow the departing vortex induces across the exit
+// plane, not the nozzle's program; its momentum flux and pressure force, which can be large
+// next to a starting vortex, are reported in the "after" phase, so that pulse and after phase
+// together hold the whole record from the pulse's start.
 func PulseImpulses(t, m, p, q []float64) []PhaseImpulse {
 	if len(t) == 0 {
 		return nil
@@ -226,23 +232,52 @@ func PulseImpulses(t, m, p, q []float64) []PhaseImpulse {
 		}
 		return len(t) - 1
 	}
-	for n, pu := range Pulses(t, q) {
-		// Extend the pulse back over the start of the rise and forward over the end of the
-		// fall (below the threshold the flux is still changing monotonically).
-		a, b := at(pu.Start), at(pu.End)
+	level := PulseThreshold * peakOf(q)
+	pulses := Pulses(t, q)
+	starts := make([]float64, len(pulses))
+	for n, pu := range pulses {
+		// Extend the pulse back over the start of the rise (below the threshold the flux is
+		// still rising monotonically from rest).
+		a := at(pu.Start)
 		for a > 0 && q[a-1] < q[a] {
 			a--
 		}
-		for b < len(t)-1 && q[b+1] < q[b] {
-			b++
+		starts[n] = t[a]
+	}
+	for n, pu := range pulses {
+		end := pu.End
+		if b := at(pu.End); b+1 < len(t) && !math.IsNaN(q[b+1]) && q[b] > q[b+1] {
+			end = t[b] + (q[b]-level)/(q[b]-q[b+1])*(t[b+1]-t[b])
+		}
+		next := t[len(t)-1]
+		if n+1 < len(pulses) {
+			next = starts[n+1]
 		}
 		name := fmt.Sprintf("pulse %d", n+1)
-		out = append(out, one(name, t[a], t[b]),
-			one(name+" acceleration", t[a], pu.AccelEnd),
+		out = append(out, one(name, starts[n], end),
+			one(name+" acceleration", starts[n], pu.AccelEnd),
 			one(name+" hold", pu.AccelEnd, pu.DecelStart),
-			one(name+" deceleration", pu.DecelStart, t[b]))
+			one(name+" deceleration", pu.DecelStart, end))
+		if next > end {
+			out = append(out, one(name+" after", end, next))
+		}
 	}
 	return out
+}
+
+// PulseThreshold is the share of the peak exit flux above which the exit is taken to be
+// discharging a pulse (common practice for a start/stop threshold: a few per cent sits above
+// measurement noise).
+const PulseThreshold = 0.05
+
+func peakOf(q []float64) float64 {
+	peak := 0.0
+	for _, v := range q {
+		if !math.IsNaN(v) {
+			peak = math.Max(peak, v)
+		}
+	}
+	return peak
 }
 
 // Pulse is one pulse of the exit program, as frame times: the flux rises above a threshold at
@@ -252,17 +287,11 @@ type Pulse struct {
 	Start, AccelEnd, DecelStart, End float64
 }
 
-// Pulses finds the pulses of an exit-flux history Q(t): runs where Q exceeds 5% of its peak
-// (common practice for a start/stop threshold). Within a pulse the hold level is the median of
-// Q; the acceleration phase lasts until Q first reaches 95% of it and the deceleration phase
-// starts when Q last exceeds 95% of it.
+// Pulses finds the pulses of an exit-flux history Q(t): runs where Q exceeds PulseThreshold of
+// its peak. Within a pulse the hold level is the median of Q; the acceleration phase lasts until
+// Q first reaches 95% of it and the deceleration phase starts when Q last exceeds 95% of it.
 func Pulses(t, q []float64) []Pulse {
-	peak := 0.0
-	for _, v := range q {
-		if !math.IsNaN(v) {
-			peak = math.Max(peak, v)
-		}
-	}
+	peak := peakOf(q)
 	if peak <= 0 {
 		return nil
 	}
@@ -270,7 +299,7 @@ func Pulses(t, q []float64) []Pulse {
 	on := false
 	start := 0
 	for m := 0; m <= len(q); m++ {
-		above := m < len(q) && q[m] > 0.05*peak
+		above := m < len(q) && q[m] > PulseThreshold*peak
 		if above && !on {
 			on, start = true, m
 		}

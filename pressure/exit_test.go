@@ -190,4 +190,60 @@ func TestPulseImpulses(t *testing.T) {
 	if acc.To < 0.95 || acc.To > 1 || hold.To < 2 || hold.To > 2.05 {
 		t.Errorf("phase limits: acceleration ends at %g, hold at %g", acc.To, hold.To)
 	}
+	// The falling flux crosses 5% of its peak at t = 2.5 - 0.05*0.5 = 2.475 s (linear ramp).
+	pulse, after := byName["pulse 1"], byName["pulse 1 after"]
+	if math.Abs(pulse.To-2.475) > 1e-9 || after.From != pulse.To || after.To != 4 {
+		t.Errorf("pulse ends at %g s, after phase %g..%g s; want 2.475 and 2.475..4", pulse.To, after.From, after.To)
+	}
+	// The phases split the integrals without gap or overlap.
+	sum := byName["pulse 1 acceleration"].P + byName["pulse 1 hold"].P + byName["pulse 1 deceleration"].P
+	if math.Abs(sum-pulse.P) > 1e-12 || math.Abs(pulse.P+after.P-0.35) > 1e-12 {
+		t.Errorf("phases add to %g (pulse %g); pulse + after %g, want 0.1*(4-0.5) = 0.35", sum, pulse.P, pulse.P+after.P)
+	}
+}
+
+// After the nozzle stops, the flux measured next to the exit trails off slowly (the departing
+// vortex induces flow across the exit plane) and may even turn negative. That tail belongs to
+// the "after" phase: the pulse ends where the flux falls through the threshold, not where it
+// stops falling. Two pulses: the first one's after phase ends where the second starts to rise.
+func TestPulseImpulsesTrailingFlux(t *testing.T) {
+	var ts, m, p, q []float64
+	flux := func(tt float64) float64 {
+		switch {
+		case tt < 0.2:
+			return tt / 0.2
+		case tt < 1:
+			return 1
+		case tt < 1.2:
+			return (1.2 - tt) / 0.2
+		case tt < 3:
+			// The trailing flux: 4% of the hold at the stop, decaying monotonically past zero.
+			return 0.04*math.Exp(-(tt-1.2)/0.3) - 0.005*(tt-1.2)
+		case tt < 3.2:
+			return (tt - 3) / 0.2
+		case tt < 4:
+			return 1
+		case tt < 4.2:
+			return (4.2 - tt) / 0.2
+		}
+		return 0
+	}
+	for k := 0; k <= 500; k++ {
+		tt := float64(k) * 0.01
+		u := flux(tt)
+		ts, q, m, p = append(ts, tt), append(q, u), append(m, u*math.Abs(u)), append(p, 0.1)
+	}
+	byName := map[string]PhaseImpulse{}
+	for _, x := range PulseImpulses(ts, m, p, q) {
+		byName[x.Name] = x
+	}
+	// Pulse 1 falls through 0.05 at 1.2 - 0.05*0.2 = 1.19 s; pulse 2 rises from the sample at
+	// 2.99 s, where the trailing flux has its minimum.
+	p1, a1, p2 := byName["pulse 1"], byName["pulse 1 after"], byName["pulse 2"]
+	if math.Abs(p1.To-1.19) > 1e-9 || a1.From != p1.To || math.Abs(a1.To-2.99) > 1e-9 || a1.To != p2.From {
+		t.Errorf("pulse 1 %g..%g s, after %g..%g s, pulse 2 from %g s; want 0..1.19, 1.19..2.99, 2.99", p1.From, p1.To, a1.From, a1.To, p2.From)
+	}
+	if d := byName["pulse 1 deceleration"]; d.To != p1.To {
+		t.Errorf("deceleration ends at %g s, the pulse at %g s", d.To, p1.To)
+	}
 }

@@ -63,7 +63,8 @@ Outputs: one file per frame and format (csv: velocities plus p [Pa], dpdx, dpdy 
 ax, ay [m/s^2]; vtk; png: a map of p), pressure.csv (solver, iterations, residual and pressure
 range per frame), exit_forces.csv (time, momentum flux, pressure force, sum, flux) and
 pressure.json with the impulses of the record and of each pulse (acceleration, hold and
-deceleration phases). Numbers are estimates for research and design studies.
+deceleration phases, and the time after the pulse: a pulse ends where the exit flux falls
+below 5% of its peak). Numbers are estimates for research and design studies.
 
 Water at 20 C is the default fluid (rho 998.2 kg/m^3, nu 1.004e-6 m^2/s).
 
