@@ -219,7 +219,8 @@ func setupDerive(fs *pflag.FlagSet) func(e *env, args []string) error {
 		for _, q := range qs {
 			set.Quantities = append(set.Quantities, q.name)
 		}
-		d := &deriver{set: set, scheme: sc, qs: qs, names: frameBases(series)}
+		d := &deriver{set: set, scheme: sc, qs: qs, names: frameBases(series),
+			untimed: series.Len() == 1 && series.Time(0) == 0 && !(opt.DT > 0)}
 		b := pipeline.Batch{Dir: dir, Command: "derive", Version: version, Settings: set,
 			Tables: []pipeline.Table{{Name: "derive.csv", Header: d.tableHeader()}}}
 		// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
@@ -279,6 +280,9 @@ type deriver struct {
 	qs     []deriveQuantity
 	names  []string
 	pool   sync.Pool // of *vorticity.Gradient
+	// untimed is set for a single frame read without a time (no --dt, no frame index time):
+	// its maps then show no time rather than t = 0.
+	untimed bool
 }
 
 func (d *deriver) tableHeader() string {
@@ -364,8 +368,11 @@ func (d *deriver) maps(out *pipeline.Output, f *piv.Field, base string, cols []p
 		yName = "r"
 	}
 	for m, q := range d.qs {
-		mp := report.MapPlot{Grid: f.Grid, Values: cols[m].Values, Unit: q.unit, Signed: q.signed,
-			Title: fmt.Sprintf("%s, %s, t = %.6g s (%s)", q.name, base, f.Time, d.scheme), YName: yName}
+		title := fmt.Sprintf("%s, %s, t = %.6g s (%s)", q.name, base, f.Time, d.scheme)
+		if d.untimed {
+			title = fmt.Sprintf("%s, %s (%s)", q.name, base, d.scheme)
+		}
+		mp := report.MapPlot{Grid: f.Grid, Values: cols[m].Values, Unit: q.unit, Signed: q.signed, Title: title, YName: yName}
 		if q.gamma != 0 {
 			mp.Min, mp.Max = -1, 1
 		}
