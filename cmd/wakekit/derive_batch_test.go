@@ -343,16 +343,19 @@ func TestDeriveStreamingMemory(t *testing.T) {
 
 // BenchmarkDeriveScaling measures "wakekit derive" throughput on 512x512 CSV frames with 1 and
 // 2 workers and reports the speed-up. The series has WAKEKIT_BENCH_FRAMES frames (default 8;
-// the acceptance figure uses 1000, which needs about 30 GB of scratch space for the outputs)
-// cycling through 4 synthetic files. Three alternating rounds, fastest of each kept, so that
-// load from other programs biases neither count:
+// the acceptance figure uses 1000, which needs about 25 GB of scratch space for one run's
+// outputs, removed after each run) cycling through 4 synthetic files. WAKEKIT_BENCH_ROUNDS
+// alternating rounds (default 3), fastest of each count kept, so that load from other programs
+// biases neither count:
 //
-//	go test -run '^$' -bench DeriveScaling -benchtime 1x ./cmd/wakekit/
+//	WAKEKIT_BENCH_FRAMES=1000 WAKEKIT_BENCH_ROUNDS=1 go test -run '^$' -bench DeriveScaling -benchtime 1x ./cmd/wakekit/
+//
+// Besides wall-clock figures it reports the process CPU time per node of each count
+// (cpu-ns/node/Nworkers) and their ratio cpu-2v1: a ratio near 1 means that running two
+// frames at once adds no work, so a wall-clock speed-up below 2 comes from cores that other
+// programs took (load-start and load-end give the one-minute load average around the run).
 func BenchmarkDeriveScaling(b *testing.B) {
-	frames := 8
-	if v := os.Getenv("WAKEKIT_BENCH_FRAMES"); v != "" {
-		fmt.Sscan(v, &frames)
-	}
+	frames, rounds := benchEnv("WAKEKIT_BENCH_FRAMES", 8), benchEnv("WAKEKIT_BENCH_ROUNDS", 3)
 	tmp := b.TempDir()
 	src := filepath.Join(tmp, "src")
 	if code, _, errs := runCapture("synth", "lamb-oseen", "--frames", "4", "--grid", "512x512", "--spacing", "1e-4",
@@ -369,26 +372,68 @@ func BenchmarkDeriveScaling(b *testing.B) {
 		b.Fatal(err)
 	}
 	best := map[int]time.Duration{}
+	cpu := map[int]int64{}
+	load0 := loadAverage()
 	b.ResetTimer()
 	for it := 0; it < b.N; it++ {
-		for round := 0; round < 3; round++ {
+		for round := 0; round < rounds; round++ {
 			for _, workers := range []int{1, 2} {
 				out := filepath.Join(tmp, fmt.Sprintf("out-%d-%d-%d", it, round, workers))
-				start := time.Now()
+				start, c0 := time.Now(), processCPU()
 				if code, _, errs := runCapture("derive", index, "--out", out, "--quiet", "--workers", fmt.Sprint(workers)); code != 0 {
 					b.Fatalf("derive: %s", errs)
 				}
-				if d := time.Since(start); best[workers] == 0 || d < best[workers] {
+				d, c := time.Since(start), processCPU()-c0
+				if best[workers] == 0 || d < best[workers] {
 					best[workers] = d
+				}
+				if cpu[workers] == 0 || c < cpu[workers] {
+					cpu[workers] = c
 				}
 				os.RemoveAll(out)
 			}
 		}
 	}
+	b.StopTimer()
 	const nodes = 512 * 512
+	reportScaling(b, frames, nodes, best, cpu, load0, loadAverage())
+}
+
+// benchEnv reads a positive whole number from the environment, or returns def.
+func benchEnv(name string, def int) int {
+	var v int
+	if _, err := fmt.Sscan(os.Getenv(name), &v); err == nil && v > 0 {
+		return v
+	}
+	return def
+}
+
+// loadAverage returns the one-minute load average (-1 where the system does not say).
+func loadAverage() float64 {
+	b, err := os.ReadFile("/proc/loadavg")
+	if err != nil {
+		return -1
+	}
+	var l float64
+	if _, err := fmt.Sscan(string(b), &l); err != nil {
+		return -1
+	}
+	return l
+}
+
+// reportScaling reports the wall-clock and CPU figures of a 1- versus 2-worker benchmark.
+func reportScaling(b *testing.B, frames, nodes int, best map[int]time.Duration, cpu map[int]int64, load0, load1 float64) {
 	for _, workers := range []int{1, 2} {
 		b.ReportMetric(float64(best[workers].Nanoseconds())/float64(frames*nodes), fmt.Sprintf("ns/node/%dworkers", workers))
 		b.ReportMetric(float64(frames)/best[workers].Seconds(), fmt.Sprintf("frames/s/%dworkers", workers))
+		if cpu[workers] > 0 {
+			b.ReportMetric(float64(cpu[workers])/float64(frames*nodes), fmt.Sprintf("cpu-ns/node/%dworkers", workers))
+		}
 	}
 	b.ReportMetric(best[1].Seconds()/best[2].Seconds(), "speedup-2v1")
+	if cpu[1] > 0 {
+		b.ReportMetric(float64(cpu[2])/float64(cpu[1]), "cpu-2v1")
+	}
+	b.ReportMetric(load0, "load-start")
+	b.ReportMetric(load1, "load-end")
 }

@@ -272,6 +272,9 @@ func RunBatch(ctx context.Context, s *piv.Series, opt Options, b Batch,
 	type frameResult struct{ e Entry }
 	wopt := opt
 	wopt.strictWindow = true // a frame's input key covers exactly what it may read
+	if wopt.Lookahead <= 0 {
+		wopt.Lookahead = 16 * workers // results are manifest entries of a few hundred bytes
+	}
 	n, runErr := run(ctx, s, order, wopt,
 		func(ctx context.Context, k int, frames Frames) (frameResult, error) {
 			key, err := keys.key(k)

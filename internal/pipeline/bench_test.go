@@ -83,7 +83,9 @@ func benchStage(out string) func(ctx context.Context, k int, fr Frames) (int, er
 //
 //	go test -run '^$' -bench RunScaling -benchtime 1x ./internal/pipeline/
 //
-// On a machine shared with other work the speed-up is lower than the cores allow.
+// It also reports the process CPU time per node of each count and their ratio cpu-2v1 (near 1:
+// running frames at once adds no work), and the one-minute load average before and after.
+// On a machine shared with other work the wall-clock speed-up is lower than the cores allow.
 func BenchmarkRunScaling(b *testing.B) {
 	frames := 8
 	if v := os.Getenv("WAKEKIT_BENCH_FRAMES"); v != "" {
@@ -94,25 +96,53 @@ func BenchmarkRunScaling(b *testing.B) {
 	out := b.TempDir()
 	nodes := 0
 	best := map[int]time.Duration{}
+	cpu := map[int]int64{}
+	load0 := loadAverage()
 	b.ResetTimer()
 	for it := 0; it < b.N; it++ {
 		for round := 0; round < 3; round++ {
 			for _, workers := range []int{1, 2} {
-				start := time.Now()
+				start, c0 := time.Now(), processCPU()
 				_, err := Run(context.Background(), s, Options{Workers: workers}, benchStage(out),
 					func(k, n int) error { nodes = n; return nil })
 				if err != nil {
 					b.Fatal(err)
 				}
-				if d := time.Since(start); best[workers] == 0 || d < best[workers] {
+				d, c := time.Since(start), processCPU()-c0
+				if best[workers] == 0 || d < best[workers] {
 					best[workers] = d
+				}
+				if cpu[workers] == 0 || c < cpu[workers] {
+					cpu[workers] = c
 				}
 			}
 		}
 	}
+	b.StopTimer()
 	for _, workers := range []int{1, 2} {
 		b.ReportMetric(float64(best[workers].Nanoseconds())/float64(frames*nodes), fmt.Sprintf("ns/node/%dworkers", workers))
 		b.ReportMetric(float64(frames)/best[workers].Seconds(), fmt.Sprintf("frames/s/%dworkers", workers))
+		if cpu[workers] > 0 {
+			b.ReportMetric(float64(cpu[workers])/float64(frames*nodes), fmt.Sprintf("cpu-ns/node/%dworkers", workers))
+		}
 	}
 	b.ReportMetric(best[1].Seconds()/best[2].Seconds(), "speedup-2v1")
+	if cpu[1] > 0 {
+		b.ReportMetric(float64(cpu[2])/float64(cpu[1]), "cpu-2v1")
+	}
+	b.ReportMetric(load0, "load-start")
+	b.ReportMetric(loadAverage(), "load-end")
+}
+
+// loadAverage returns the one-minute load average (-1 where the system does not say).
+func loadAverage() float64 {
+	b, err := os.ReadFile("/proc/loadavg")
+	if err != nil {
+		return -1
+	}
+	var l float64
+	if _, err := fmt.Sscan(string(b), &l); err != nil {
+		return -1
+	}
+	return l
 }

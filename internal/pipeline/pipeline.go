@@ -9,7 +9,7 @@
 //
 // Memory: frames are read lazily through a bounded cache shared by the workers, so at most
 // about 2*Workers + 2*Halo + 1 frames are held at once whatever the length of the series, plus
-// at most 2*Workers results waiting to be emitted in order.
+// at most Workers + Lookahead results waiting to be emitted in order.
 package pipeline
 
 import (
@@ -47,6 +47,12 @@ type Options struct {
 	Progress io.Writer
 	// Label starts the progress line (usually the command name).
 	Label string
+	// Lookahead is how many finished results may wait to be emitted in frame order (0 means
+	// Workers). A deeper queue lets the other workers go on while one frame takes long (a
+	// slow disk write, a worker descheduled on a loaded machine); it costs memory only for the
+	// results, since at most Workers frames are processed at once. RunBatch, whose results
+	// are small manifest entries, uses 16 x Workers.
+	Lookahead int
 
 	// strictWindow enforces the halo even when it is 0 (RunBatch sets it).
 	strictWindow bool
@@ -245,9 +251,13 @@ func run[R any](ctx context.Context, s *piv.Series, order []int, opt Options,
 		r   R
 		err error
 	}
-	// One buffered channel per job keeps the output order; at most `workers` jobs are in flight
-	// beyond the ones waiting to be emitted, which bounds memory.
-	slots := make(chan chan result, workers)
+	// One buffered channel per job keeps the output order; at most `workers` jobs run at once
+	// and at most `lookahead` more wait to be emitted, which bounds memory.
+	lookahead := opt.Lookahead
+	if lookahead <= 0 {
+		lookahead = workers
+	}
+	slots := make(chan chan result, lookahead)
 	var wg sync.WaitGroup
 	sem := make(chan struct{}, workers)
 	go func() {

@@ -70,6 +70,45 @@ func TestRunOrderWithJitter(t *testing.T) {
 	}
 }
 
+// While the first frame takes long, the other workers go on with the next Lookahead frames
+// and no further: the results waiting to be emitted in order are bounded by Lookahead, and
+// everything is still emitted in frame order once the slow frame is done.
+func TestRunLookaheadBound(t *testing.T) {
+	s := memSeries(t, 40, 4, 3, nil)
+	for _, c := range []struct{ workers, lookahead, want int }{{2, 5, 6}, {2, 0, 3}, {3, 1, 2}} {
+		release := make(chan struct{})
+		var started atomic.Int64
+		done := make(chan error, 1)
+		var got []int
+		go func() {
+			_, err := Run(context.Background(), s, Options{Workers: c.workers, Lookahead: c.lookahead},
+				func(ctx context.Context, k int, fr Frames) (int, error) {
+					started.Add(1)
+					if k == 0 {
+						<-release
+					}
+					return k, nil
+				},
+				func(k, r int) error { got = append(got, r); return nil })
+			done <- err
+		}()
+		// The counts settle within a few scheduler rounds; 200 ms is ample on a loaded machine.
+		time.Sleep(200 * time.Millisecond)
+		if n := started.Load(); int(n) != c.want {
+			t.Errorf("workers %d, lookahead %d: %d frames started while frame 0 runs, want %d", c.workers, c.lookahead, n, c.want)
+		}
+		close(release)
+		if err := <-done; err != nil {
+			t.Fatal(err)
+		}
+		for a, k := range got {
+			if a != k || len(got) != 40 {
+				t.Fatalf("emitted %v, not the 40 frames in order", got)
+			}
+		}
+	}
+}
+
 // With a halo, neighbouring jobs share the frames they read: each frame is read about once
 // (frames of dispatched jobs' windows are never evicted; the margin of one read per worker
 // allows for a frame dropped just before a later job asked for it).
