@@ -147,9 +147,13 @@ func (o MedianOptions) resolved() (MedianOptions, error) {
 // the vector form; see the tests). All residuals are computed on the field as it was before the
 // test, so the result does not depend on the order of the nodes.
 //
-// It allocates one flag per node per call and nothing per node (beyond the list of rejected
-// nodes); interior 3×3 neighbourhoods with eight valid neighbours take branch-free median
-// networks on columns sorted once per row.
+// It allocates one flag per node and a few rows of work space per call and nothing per node
+// (beyond the list of rejected nodes). Interior 3×3 neighbourhoods with eight valid neighbours
+// take a row kernel of their own: one fused pass per row reads the next row's velocities and
+// validity, converts them to order keys and sorts every column of three, a branch-free pass
+// forms every node's two medians by merge networks on the sorted columns, and the kernel then
+// judges the nodes. Edges, radius 2 and nodes next to invalid ones take the general path; the
+// tests check the decisions of both against a plain transcription of the test.
 func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	o, err := opt.resolved()
 	if err != nil {
@@ -159,119 +163,53 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 		return 0, err
 	}
 	g := f.Grid
-	ok := make([]bool, g.N())
-	for k := range ok {
-		ok[k] = f.Valid(k)
-	}
-	var bad []int // nodes that fail, applied after every node is judged
-	thr, eps := o.Threshold, o.Epsilon
-	var nu, nv [24]float64
 	nx := g.NX
-	// The 3×3 fast path keeps the order keys of three rows (j−1, j, j+1) in a ring, and the
-	// sorted columns left of, at and right of the current node in registers as it moves along
-	// the row, so each column is sorted once.
-	threeByThree := o.Radius == 1 && g.NX >= 3 && g.NY >= 3
-	var ku, kv [3][]uint64
-	if threeByThree {
-		for r := range ku {
-			ku[r], kv[r] = make([]uint64, nx), make([]uint64, nx)
+	ok := make([]bool, g.N())
+	var bad []int // nodes that fail, applied after every node is judged
+	if o.Radius != 1 || g.NX < 3 || g.NY < 3 {
+		for k := range ok {
+			ok[k] = f.Valid(k)
 		}
-		keyRow(f, 0, ku[0], kv[0])
-		keyRow(f, 1, ku[1], kv[1])
-	}
-	for j := 0; j < g.NY; j++ {
-		fast := threeByThree && j > 0 && j < g.NY-1
-		var kuA, kuB, kuC, kvA, kvB, kvC []uint64 // keys of the rows above, at and below
-		var oa, ob, oc []bool
-		var uL, uC, uR, vL, vC, vR colKeys
-		var okL, okC, okR bool
-		if fast {
-			keyRow(f, j+1, ku[(j+1)%3], kv[(j+1)%3])
-			kuA, kuB, kuC = ku[(j-1)%3], ku[j%3], ku[(j+1)%3]
-			kvA, kvB, kvC = kv[(j-1)%3], kv[j%3], kv[(j+1)%3]
-			oa, ob, oc = ok[(j-1)*nx:j*nx], ok[j*nx:(j+1)*nx], ok[(j+1)*nx:(j+2)*nx]
-			if okC = oa[0] && ob[0] && oc[0]; okC {
-				uC, vC = sortColumn(kuA[0], kuB[0], kuC[0]), sortColumn(kvA[0], kvB[0], kvC[0])
-			}
-			if okR = oa[1] && ob[1] && oc[1]; okR {
-				uR, vR = sortColumn(kuA[1], kuB[1], kuC[1]), sortColumn(kvA[1], kvB[1], kvC[1])
+		for j := 0; j < g.NY; j++ {
+			for i := 0; i < nx; i++ {
+				if medianGeneral(f, ok, o, i, j) {
+					bad = append(bad, j*nx+i)
+				}
 			}
 		}
-		for i := 0; i < g.NX; i++ {
-			if fast && i > 0 {
-				uL, vL, okL = uC, vC, okC
-				uC, vC, okC = uR, vR, okR
-				if n := i + 1; n < nx {
-					if okR = oa[n] && ob[n] && oc[n]; okR {
-						uR, vR = sortColumn(kuA[n], kuB[n], kuC[n]), sortColumn(kvA[n], kvB[n], kvC[n])
+	} else {
+		w := newMedianRows(f, ok)
+		w.prepare(0)
+		for j := 0; j < g.NY; j++ {
+			if j+1 < g.NY {
+				w.prepare(j + 1)
+			}
+			if j == 0 || j == g.NY-1 {
+				for i := 0; i < nx; i++ {
+					if medianGeneral(f, ok, o, i, j) {
+						bad = append(bad, j*nx+i)
 					}
 				}
-			}
-			k := j*nx + i
-			if !ok[k] {
 				continue
 			}
-			u0, v0 := f.U[k], f.V[k]
-			if fast && i > 0 && i < nx-1 && okL && okR && ok[k-nx] && ok[k+nx] {
-				um := middle8(&uL, &uR, kuA[i], kuC[i])
-				vm := middle8(&vL, &vR, kvA[i], kvC[i])
-				du0, dv0 := u0-um, v0-vm
-				d0 := du0*du0 + dv0*dv0
-				if !o.PerComponent && d0 <= thr*thr*eps*eps {
-					continue // |Δ0| ≤ thr·ε ≤ thr·(r_m + ε): passes whatever the residuals
-				}
-				a, b, c := k-nx-1, k-1, k+nx-1
-				U, V := f.U[a:c+3:c+3], f.V[a:c+3:c+3]
-				b -= a
-				c -= a
+			if medianGeneral(f, ok, o, 0, j) {
+				bad = append(bad, j*nx)
+			}
+			for i := 1; ; i++ {
 				if o.PerComponent {
-					if residualAbout8(u0, um, U[0], U[1], U[2], U[b], U[b+2], U[c], U[c+1], U[c+2], eps) > thr ||
-						residualAbout8(v0, vm, V[0], V[1], V[2], V[b], V[b+2], V[c], V[c+1], V[c+2], eps) > thr {
-						bad = append(bad, k)
-					}
-					continue
+					i, bad = w.runComponents(j, i, o.Threshold, o.Epsilon, bad)
+				} else {
+					i, bad = w.runVector(j, i, o.Threshold, o.Epsilon, bad)
 				}
-				d := func(q int) uint64 {
-					du, dv := U[q]-um, V[q]-vm
-					return math.Float64bits(du*du + dv*dv)
+				if i >= nx-1 {
+					break
 				}
-				lo, hi := mid8(d(0), d(1), d(2), d(b), d(b+2), d(c), d(c+1), d(c+2))
-				// Since r_m ≥ √lo, (r_m + ε)² ≥ lo + ε²: a vector within thr²·(lo + ε²) passes
-				// without the square roots, which most good vectors do.
-				lo, hi = min(lo, hi), max(lo, hi) // mid8 leaves the pair unordered
-				lo2 := math.Float64frombits(lo)
-				if d0 <= thr*thr*(lo2+eps*eps) {
-					continue
-				}
-				rm := 0.5 * (math.Sqrt(lo2) + math.Sqrt(math.Float64frombits(hi)))
-				lim := thr * (rm + eps)
-				if d0 > lim*lim {
-					bad = append(bad, k)
-				}
-				continue
-			}
-			n := 0
-			for jj := max(j-o.Radius, 0); jj <= min(j+o.Radius, g.NY-1); jj++ {
-				for ii := max(i-o.Radius, 0); ii <= min(i+o.Radius, g.NX-1); ii++ {
-					q := jj*g.NX + ii
-					if q == k || !ok[q] {
-						continue
-					}
-					nu[n], nv[n] = f.U[q], f.V[q]
-					n++
+				if medianGeneral(f, ok, o, i, j) {
+					bad = append(bad, j*nx+i)
 				}
 			}
-			if n < o.MinNeighbours {
-				continue
-			}
-			if o.PerComponent {
-				if residualN(u0, nu[:n], eps) > thr || residualN(v0, nv[:n], eps) > thr {
-					bad = append(bad, k)
-				}
-			} else {
-				if vectorResidualN(u0, v0, nu[:n], nv[:n], eps) > thr {
-					bad = append(bad, k)
-				}
+			if medianGeneral(f, ok, o, nx-1, j) {
+				bad = append(bad, j*nx+nx-1)
 			}
 		}
 	}
@@ -281,22 +219,169 @@ func MedianTest(f *Field, opt MedianOptions) (int, error) {
 	return len(bad), nil
 }
 
+// medianGeneral judges node (i, j) with the neighbours that are valid in ok, in any
+// neighbourhood and next to edges, and reports whether it fails. Nodes that are not valid, or
+// have fewer than o.MinNeighbours valid neighbours, pass.
+func medianGeneral(f *Field, ok []bool, o MedianOptions, i, j int) bool {
+	g := f.Grid
+	k := j*g.NX + i
+	if !ok[k] {
+		return false
+	}
+	var nu, nv [24]float64
+	n := 0
+	for jj := max(j-o.Radius, 0); jj <= min(j+o.Radius, g.NY-1); jj++ {
+		for ii := max(i-o.Radius, 0); ii <= min(i+o.Radius, g.NX-1); ii++ {
+			q := jj*g.NX + ii
+			if q == k || !ok[q] {
+				continue
+			}
+			nu[n], nv[n] = f.U[q], f.V[q]
+			n++
+		}
+	}
+	if n < o.MinNeighbours {
+		return false
+	}
+	u0, v0, thr, eps := f.U[k], f.V[k], o.Threshold, o.Epsilon
+	if o.PerComponent {
+		return residualN(u0, nu[:n], eps) > thr || residualN(v0, nv[:n], eps) > thr
+	}
+	return vectorResidualN(u0, v0, nu[:n], nv[:n], eps) > thr
+}
+
+// medianRows is the work space of the 3×3 row kernel: the validity and order keys of three
+// grid rows in a ring, and for the row being judged the sorted columns of its 3×3
+// neighbourhoods and whether all three nodes of each column are valid.
+type medianRows struct {
+	f      *Field
+	ok     []bool // validity of every node, filled row by row by prepare
+	ku, kv [3][]uint64
+	cu, cv []colKeys
+	cok    []bool
+	mu, mv []float64 // medians of the eight neighbours, by rowMedians
+}
+
+func newMedianRows(f *Field, ok []bool) *medianRows {
+	nx := f.Grid.NX
+	w := &medianRows{f: f, ok: ok, cu: make([]colKeys, nx), cv: make([]colKeys, nx), cok: make([]bool, nx),
+		mu: make([]float64, nx), mv: make([]float64, nx)}
+	for r := range w.ku {
+		w.ku[r], w.kv[r] = make([]uint64, nx), make([]uint64, nx)
+	}
+	return w
+}
+
+// prepare reads row j in one pass: its validity into ok, its order keys into the ring, and,
+// when j ≥ 2, the sorted columns, column validity and neighbour medians of the neighbourhoods
+// of row j−1. The keys and medians that involve invalid nodes are never used.
+func (w *medianRows) prepare(j int) {
+	f := w.f
+	nx := f.Grid.NX
+	U, V, S := f.U[j*nx:(j+1)*nx], f.V[j*nx:(j+1)*nx], f.Status[j*nx:(j+1)*nx]
+	oc, kuC, kvC := w.ok[j*nx:(j+1)*nx], w.ku[j%3][:nx], w.kv[j%3][:nx]
+	if j < 2 {
+		for i := range oc {
+			u, v := U[i], V[i]
+			oc[i] = S[i].Valid() && u == u && v == v
+			kuC[i], kvC[i] = key(u), key(v)
+		}
+		return
+	}
+	oa, ob := w.ok[(j-2)*nx:(j-1)*nx], w.ok[(j-1)*nx:j*nx]
+	kuA, kuB, kvA, kvB := w.ku[(j-2)%3][:nx], w.ku[(j-1)%3][:nx], w.kv[(j-2)%3][:nx], w.kv[(j-1)%3][:nx]
+	cu, cv, cok := w.cu[:nx], w.cv[:nx], w.cok[:nx]
+	for i := range oc {
+		u, v := U[i], V[i]
+		o := S[i].Valid() && u == u && v == v
+		a, b := key(u), key(v)
+		oc[i], kuC[i], kvC[i] = o, a, b
+		cok[i] = oa[i] && ob[i] && o
+		cu[i] = sortColumn(kuA[i], kuB[i], a)
+		cv[i] = sortColumn(kvA[i], kvB[i], b)
+	}
+	rowMedians(w.mu[:nx], cu, kuA, kuC)
+	rowMedians(w.mv[:nx], cv, kvA, kvC)
+}
+
+// runVector judges, by the vector form, the nodes of interior row j from column i0 on, up to
+// column NX−2, appending those that fail to bad. It stops at the first valid node with an
+// invalid neighbour, for the general path, and returns its column (NX−1 when there is none).
+// thr and eps are the test's threshold and ε.
+func (w *medianRows) runVector(j, i0 int, thr, eps float64, bad []int) (int, []int) {
+	f := w.f
+	nx := f.Grid.NX
+	oa, ob, oc := w.ok[(j-1)*nx:j*nx], w.ok[j*nx:(j+1)*nx], w.ok[(j+1)*nx:(j+2)*nx]
+	mu, mv, cok := w.mu[:nx], w.mv[:nx], w.cok[:nx]
+	ua, ub, uc := f.U[(j-1)*nx:j*nx], f.U[j*nx:(j+1)*nx], f.U[(j+1)*nx:(j+2)*nx]
+	va, vb, vc := f.V[(j-1)*nx:j*nx], f.V[j*nx:(j+1)*nx], f.V[(j+1)*nx:(j+2)*nx]
+	pass := thr * thr * eps * eps
+	for i := i0; i < nx-1; i++ {
+		if !ob[i] {
+			continue
+		}
+		if !(cok[i-1] && cok[i+1] && oa[i] && oc[i]) {
+			return i, bad
+		}
+		um, vm := mu[i], mv[i]
+		du0, dv0 := ub[i]-um, vb[i]-vm
+		d0 := du0*du0 + dv0*dv0
+		if d0 <= pass {
+			continue // |Δ0| ≤ thr·ε ≤ thr·(r_m + ε): passes whatever the residuals
+		}
+		d := func(u, v float64) uint64 {
+			du, dv := u-um, v-vm
+			return math.Float64bits(du*du + dv*dv)
+		}
+		lo, hi := mid8(d(ua[i-1], va[i-1]), d(ua[i], va[i]), d(ua[i+1], va[i+1]), d(ub[i-1], vb[i-1]),
+			d(ub[i+1], vb[i+1]), d(uc[i-1], vc[i-1]), d(uc[i], vc[i]), d(uc[i+1], vc[i+1]))
+		// Since r_m ≥ √lo, (r_m + ε)² ≥ lo + ε²: a vector within thr²·(lo + ε²) passes
+		// without the square roots, which most good vectors do.
+		lo, hi = min(lo, hi), max(lo, hi) // mid8 leaves the pair unordered
+		lo2 := math.Float64frombits(lo)
+		if d0 <= thr*thr*(lo2+eps*eps) {
+			continue
+		}
+		rm := 0.5 * (math.Sqrt(lo2) + math.Sqrt(math.Float64frombits(hi)))
+		lim := thr * (rm + eps)
+		if d0 > lim*lim {
+			bad = append(bad, j*nx+i)
+		}
+	}
+	return nx - 1, bad
+}
+
+// runComponents is runVector for the per-component test.
+func (w *medianRows) runComponents(j, i0 int, thr, eps float64, bad []int) (int, []int) {
+	f := w.f
+	nx := f.Grid.NX
+	oa, ob, oc := w.ok[(j-1)*nx:j*nx], w.ok[j*nx:(j+1)*nx], w.ok[(j+1)*nx:(j+2)*nx]
+	mu, mv, cok := w.mu[:nx], w.mv[:nx], w.cok[:nx]
+	ua, ub, uc := f.U[(j-1)*nx:j*nx], f.U[j*nx:(j+1)*nx], f.U[(j+1)*nx:(j+2)*nx]
+	va, vb, vc := f.V[(j-1)*nx:j*nx], f.V[j*nx:(j+1)*nx], f.V[(j+1)*nx:(j+2)*nx]
+	for i := i0; i < nx-1; i++ {
+		if !ob[i] {
+			continue
+		}
+		if !(cok[i-1] && cok[i+1] && oa[i] && oc[i]) {
+			return i, bad
+		}
+		um, vm := mu[i], mv[i]
+		if residualAbout8(ub[i], um, ua[i-1], ua[i], ua[i+1], ub[i-1], ub[i+1], uc[i-1], uc[i], uc[i+1], eps) > thr ||
+			residualAbout8(vb[i], vm, va[i-1], va[i], va[i+1], vb[i-1], vb[i+1], vc[i-1], vc[i], vc[i+1], eps) > thr {
+			bad = append(bad, j*nx+i)
+		}
+	}
+	return nx - 1, bad
+}
+
 // colKeys holds, for one grid column and one velocity component, the order keys of the three
 // values in rows j−1, j and j+1, sorted.
 type colKeys struct {
 	t0, t1, t2 uint64
 }
 
-// keyRow stores the order keys of row j's velocities (NaN-free only where valid; the keys of
-// invalid nodes are never used).
-func keyRow(f *Field, j int, ku, kv []uint64) {
-	nx := f.Grid.NX
-	U, V := f.U[j*nx:(j+1)*nx], f.V[j*nx:(j+1)*nx]
-	for i := range ku {
-		ku[i], kv[i] = key(U[i]), key(V[i])
-	}
-}
-
+// sortColumn sorts the three keys of one column.
 func sortColumn(a, b, c uint64) colKeys {
 	p0, p1 := min(a, c), max(a, c)
 	t0, t2 := min(p0, b), max(p1, b)
@@ -304,21 +389,31 @@ func sortColumn(a, b, c uint64) colKeys {
 	return colKeys{t0, t1, t2}
 }
 
-// middle8 is the median of the eight neighbours of a node: the sorted columns left (l) and
-// right (r) of it and the keys above (top) and below (bot) it in its own column. It uses the order statistics of a
-// union of sorted lists, X∪Y[k] = max over a+b = k of min(X[a], Y[b]) (with X[len X] = +∞),
-// first for the six column values (s1..s4) and then with the pair for the 4th and 5th of eight.
-func middle8(l, r *colKeys, top, bot uint64) float64 {
-	p0, p1 := min(top, bot), max(top, bot)
-	a0, a1, a2 := l.t0, l.t1, l.t2
-	c0, c1, c2 := r.t0, r.t1, r.t2
-	s1 := max(min(a1, c0), min(a0, c1))
-	s2 := max(min(a2, c0), min(a1, c1), min(a0, c2))
-	s3 := max(c0, min(a2, c1), min(a1, c2), a0)
-	s4 := max(c1, min(a2, c2), a1)
-	m3 := max(min(s3, p0), min(s2, p1), s1)
-	m4 := max(min(s4, p0), min(s3, p1), s2)
-	return 0.5 * (unkey(m3) + unkey(m4))
+// rowMedians writes into m[i], for every interior column i of a row, the median of the
+// eight neighbours of node i: the sorted columns c[i−1] and c[i+1] and the keys above
+// (top[i]) and below (bot[i]) it in its own column. The two columns are merged by Batcher's
+// odd–even merge (Batcher 1968; Knuth, The Art of Computer Programming vol. 3, §5.3.4) with the
+// comparators for the smallest and largest of the six left out (ten operations for s1..s4),
+// and the 4th and 5th of eight follow from the order statistics of a union of sorted lists,
+// X∪Y[k] = max over a+b = k of min(X[a], Y[b]), with the pair. The tests check it on every
+// sorted 0-1 input, which by the 0-1 principle proves it for every input. The loop has no
+// branch: columns with invalid nodes give values that are not used.
+func rowMedians(m []float64, c []colKeys, top, bot []uint64) {
+	n := len(m)
+	c, top, bot = c[:n], top[:n], bot[:n]
+	for i := 1; i < n-1; i++ {
+		l, r := &c[i-1], &c[i+1]
+		p0, p1 := min(top[i], bot[i]), max(top[i], bot[i])
+		// Even-indexed elements (a0, a2 with c0, c2), without their outer two outputs, and the
+		// odd ones (a1 with c1); then the final comparators of the merge.
+		x, y := max(l.t0, r.t0), min(l.t2, r.t2)
+		e1, e2 := min(x, y), max(x, y)
+		o0, o1 := min(l.t1, r.t1), max(l.t1, r.t1)
+		s1, s2, s3, s4 := min(e1, o0), max(e1, o0), min(e2, o1), max(e2, o1)
+		m3 := max(min(s3, p0), min(s2, p1), s1)
+		m4 := max(min(s4, p0), min(s3, p1), s2)
+		m[i] = 0.5 * (unkey(m3) + unkey(m4))
+	}
 }
 
 // residualAbout8 is the normalized residual of x0 against eight neighbours whose median m is

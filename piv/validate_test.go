@@ -79,6 +79,38 @@ func TestSort8ZeroOne(t *testing.T) {
 			t.Fatalf("input %08b: middle pair (%d, %d), want (%d, %d)", m, lo, hi, want3, want4)
 		}
 	}
+	// rowMedians on every sorted 0-1 input (two sorted columns of three and the pair in
+	// either order, 64 cases): the 4th and 5th of eight are 1 when at least 5 resp. 4 of the
+	// inputs are 1, so the median is their mean.
+	k0, k1 := key(0), key(1)
+	col := func(ones int) colKeys { // a sorted column of keys with the given count of ones
+		c := [3]uint64{k0, k0, k0}
+		for q := 3 - ones; q < 3; q++ {
+			c[q] = k1
+		}
+		return colKeys{c[0], c[1], c[2]}
+	}
+	for lo := 0; lo <= 3; lo++ {
+		for ro := 0; ro <= 3; ro++ {
+			for pm := 0; pm < 4; pm++ {
+				top, bot := pm&1, pm>>1
+				kt, kb := []uint64{k0, k1}[top], []uint64{k0, k1}[bot]
+				ones := lo + ro + top + bot
+				m := make([]float64, 3)
+				rowMedians(m, []colKeys{col(lo), {}, col(ro)}, []uint64{0, kt, 0}, []uint64{0, kb, 0})
+				want := 0.0
+				if ones >= 5 {
+					want += 0.5
+				}
+				if ones >= 4 {
+					want += 0.5
+				}
+				if m[1] != want {
+					t.Fatalf("columns with %d and %d ones, pair (%d, %d): median %g, want %g", lo, ro, top, bot, m[1], want)
+				}
+			}
+		}
+	}
 	// The order-preserving keys, checked against sort.Float64s on signed values.
 	rng := rand.New(rand.NewPCG(9, 9))
 	for trial := 0; trial < 1000; trial++ {
@@ -92,10 +124,12 @@ func TestSort8ZeroOne(t *testing.T) {
 		b := a[:]
 		b = append([]float64(nil), b...)
 		sort.Float64s(b)
-		l := sortColumn(key(a[0]), key(a[1]), key(a[2]))
-		r := sortColumn(key(a[3]), key(a[4]), key(a[5]))
-		if got, want := middle8(&l, &r, key(a[6]), key(a[7])), 0.5*(b[3]+b[4]); got != want {
-			t.Fatalf("middle8(%v) = %g, want %g", a, got, want)
+		// One interior node between two sorted columns.
+		cols := []colKeys{sortColumn(key(a[0]), key(a[1]), key(a[2])), {}, sortColumn(key(a[3]), key(a[4]), key(a[5]))}
+		m := make([]float64, 3)
+		rowMedians(m, cols, []uint64{0, key(a[6]), 0}, []uint64{0, key(a[7]), 0})
+		if got, want := m[1], 0.5*(b[3]+b[4]); got != want {
+			t.Fatalf("median of %v = %g, want %g", a, got, want)
 		}
 	}
 }
@@ -271,6 +305,12 @@ func BenchmarkMedianTest2048(b *testing.B) {
 // referenceMedianTest is a plain transcription of the normalized median test (Westerweel &
 // Scarano 2005) with sort.Float64s, for checking the fast paths.
 func referenceMedianTest(f *Field, radius int, eps, thr float64, perComponent bool) []bool {
+	return referenceMedianTestMin(f, radius, eps, thr, perComponent, 3)
+}
+
+// referenceMedianTestMin is referenceMedianTest with the least number of valid neighbours
+// needed to judge a vector.
+func referenceMedianTestMin(f *Field, radius int, eps, thr float64, perComponent bool, minNeighbours int) []bool {
 	g := f.Grid
 	bad := make([]bool, g.N())
 	med := func(a []float64) float64 {
@@ -297,7 +337,7 @@ func referenceMedianTest(f *Field, radius int, eps, thr float64, perComponent bo
 					}
 				}
 			}
-			if len(nu) < 3 {
+			if len(nu) < minNeighbours {
 				continue
 			}
 			um, vm := med(nu), med(nv)
@@ -351,8 +391,111 @@ func TestMedianTestMatchesReference(t *testing.T) {
 	}
 }
 
+// TestMedianTestPropertyReference is the property test of the fast paths: on random fields
+// and masks the field after MedianTest equals, bit for bit in every velocity and status, the
+// field with exactly the vectors the plain reference transcription rejects marked rejected,
+// and the count matches. The cases cover grids from one node wide to long interior rows, no
+// mask to half the nodes missing, solid blocks, replaced nodes, finite garbage at unusable
+// nodes and usable-status nodes with a NaN component, spurious vectors, both neighbourhoods,
+// both forms, and random thresholds, ε and neighbour minimums.
+func TestMedianTestPropertyReference(t *testing.T) {
+	rng := rand.New(rand.NewPCG(31, 5))
+	rejectedTotal := 0
+	for trial := 0; trial < 300; trial++ {
+		nx, ny := 1+rng.IntN(30), 1+rng.IntN(20)
+		if trial%5 == 0 {
+			nx, ny = 40+rng.IntN(60), 3+rng.IntN(8)
+		}
+		g := Grid{NX: nx, NY: ny, DX: 1, DY: 1}
+		f := NewField(g)
+		noise := 0.02 + 0.2*rng.Float64()
+		for k := range f.U {
+			i, j := g.IJ(k)
+			f.Set(k, math.Sin(float64(i)/5)+noise*rng.NormFloat64(), math.Cos(float64(j)/4)+noise*rng.NormFloat64())
+			if rng.Float64() < 0.05 { // spurious
+				f.U[k], f.V[k] = 3*rng.NormFloat64(), 3*rng.NormFloat64()
+			}
+		}
+		missing := []float64{0, 0, 0.01, 0.05, 0.2, 0.5}[trial%6]
+		for k := range f.Status {
+			switch x := rng.Float64(); {
+			case x < missing:
+				f.Status[k] = Missing
+			case x < missing+0.02:
+				f.Status[k] = Replaced | RejectedStd
+			}
+		}
+		if trial%4 == 1 && nx > 3 && ny > 3 {
+			i0, j0 := rng.IntN(nx-2), rng.IntN(ny-2)
+			for k := range f.Status {
+				if i, j := g.IJ(k); i >= i0 && i < i0+2 && j >= j0 && j < j0+2 {
+					f.Status[k] = Solid
+				}
+			}
+		}
+		for k, st := range f.Status {
+			if !st.Valid() {
+				f.U[k], f.V[k] = math.NaN(), math.NaN()
+				if trial%3 == 2 { // never normalized: finite garbage
+					f.U[k], f.V[k] = rng.NormFloat64(), rng.NormFloat64()
+				}
+			} else if rng.Float64() < 0.01 {
+				f.V[k] = math.NaN() // usable status, NaN component: not valid
+			}
+		}
+		o := MedianOptions{
+			Radius:        1 + rng.IntN(2),
+			Threshold:     []float64{0, 1.5, 2, 3}[rng.IntN(4)],
+			Epsilon:       0.01 + 0.2*rng.Float64(),
+			MinNeighbours: []int{0, 1, 3, 5, 8}[rng.IntN(5)],
+			PerComponent:  rng.IntN(3) == 0,
+		}
+		if trial%2 == 0 {
+			o.Radius = 1 // the fast path's neighbourhood, more often
+		}
+		thr, minN := o.Threshold, o.MinNeighbours
+		if thr == 0 {
+			thr = DefaultMedianThreshold
+		}
+		if minN == 0 {
+			minN = 3
+		}
+		want := f.Clone()
+		bad := referenceMedianTestMin(f, o.Radius, o.Epsilon, thr, o.PerComponent, minN)
+		nbad := 0
+		for k, b := range bad {
+			if b {
+				reject(want, k, RejectedMedian)
+				nbad++
+			}
+		}
+		got := f.Clone()
+		n, err := MedianTest(got, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if n != nbad {
+			t.Fatalf("trial %d (%dx%d, %+v): %d rejected, reference %d", trial, nx, ny, o, n, nbad)
+		}
+		for k := range got.U {
+			if math.Float64bits(got.U[k]) != math.Float64bits(want.U[k]) || math.Float64bits(got.V[k]) != math.Float64bits(want.V[k]) ||
+				got.Status[k] != want.Status[k] {
+				i, j := g.IJ(k)
+				t.Fatalf("trial %d (%dx%d, %+v) node (%d, %d): (%v, %v, %v), reference (%v, %v, %v)", trial, nx, ny, o, i, j,
+					got.U[k], got.V[k], got.Status[k], want.U[k], want.V[k], want.Status[k])
+			}
+		}
+		rejectedTotal += n
+	}
+	t.Logf("%d rejected", rejectedTotal)
+	// The cases must exercise rejection, not only acceptance.
+	if rejectedTotal < 500 {
+		t.Fatalf("only %d vectors rejected over all cases", rejectedTotal)
+	}
+}
+
 func BenchmarkMedianTest5x5(b *testing.B) {
-	// The 5x5 neighbourhood takes the general path (insertion sorts of up to 24 values).
+	// The 5x5 neighbourhood takes the general path (Hoare selection over up to 24 values).
 	g := Grid{NX: 512, NY: 512, DX: 1, DY: 1}
 	f := NewField(g)
 	rng := rand.New(rand.NewPCG(3, 4))
