@@ -566,7 +566,14 @@ func (s *pressureSummary) print(w io.Writer, rep pipeline.Report, dir string) {
 		}
 		fmt.Fprintf(w, "  exit forces at x = %g m, radius %g m", float64(st.Exit[0]), float64(st.Exit[1]))
 		if s.Carried != nil && float64(*s.Carried) != 0 {
-			fmt.Fprintf(w, " (carried %.4g m from the nearest column with the measured gradient)", float64(*s.Carried))
+			// Carried is X_e minus the column's x: negative when the column lies downstream.
+			c := float64(*s.Carried)
+			way := "downstream"
+			if c < 0 {
+				way = "upstream"
+			}
+			fmt.Fprintf(w, " (pressure carried %.4g m %s from the nearest column, x = %g m, with its measured gradient; velocity from that column)",
+				math.Abs(c), way, float64(st.Exit[0])-c)
 		}
 		fmt.Fprintf(w, ":\n  %12s %14s %14s %14s\n", "t [s]", "M ["+unit+"]", "P ["+unit+"]", "M+P ["+unit+"]")
 		step := 1

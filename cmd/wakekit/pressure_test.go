@@ -279,7 +279,7 @@ func TestPressureCFDExit(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	if !strings.Contains(stdout, "carried -0.0007813 m") {
+	if !strings.Contains(stdout, "pressure carried 0.0007813 m upstream from the nearest column, x = 0.00078125 m") {
 		t.Errorf("summary does not say the exit pressure was carried half a spacing:\n%s", stdout)
 	}
 	got := readColumns(t, filepath.Join(out, "exit_forces.csv"))
