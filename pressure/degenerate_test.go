@@ -1,6 +1,7 @@
 package pressure
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -86,9 +87,30 @@ func regionErr(g piv.Grid, gx, gy, p, exact []float64, opt Options) float64 {
 	return worst
 }
 
-// TestDegenerateFrames reconstructs tiny and thin fields with every method: an error or a
-// result, never a panic.
+// TestDegenerateFrames reconstructs tiny and thin fields with every method: an error with a
+// message, or a result on the frame's grid without infinities, never a panic.
 func TestDegenerateFrames(t *testing.T) {
+	check := func(name string, r *FrameResult, err error, g piv.Grid) {
+		t.Helper()
+		if err != nil {
+			if err.Error() == "" {
+				t.Errorf("%s: empty error message", name)
+			}
+			return
+		}
+		if r == nil || r.Result == nil || len(r.P) != g.N() {
+			t.Errorf("%s: no error and no pressure on the %dx%d grid", name, g.NX, g.NY)
+			return
+		}
+		for k, p := range r.P {
+			if math.IsInf(p, 0) {
+				t.Errorf("%s: pressure %g at node %d", name, p, k)
+			}
+		}
+		if r.Exit != nil && (math.IsInf(r.Exit.P, 0) || math.IsInf(r.Exit.M, 0)) {
+			t.Errorf("%s: exit forces M %g, P %g", name, r.Exit.M, r.Exit.P)
+		}
+	}
 	for _, sz := range [][2]int{{1, 1}, {1, 4}, {4, 1}, {2, 2}} {
 		g := piv.Grid{NX: sz[0], NY: sz[1], DX: 0.01, DY: 0.01}
 		var frames []*piv.Field
@@ -104,9 +126,12 @@ func TestDegenerateFrames(t *testing.T) {
 		for _, m := range []Method{Eulerian, Lagrangian, Steady} {
 			for k := 0; k < 3; k++ {
 				ex := &Exit{X: 0, Radius: 0.02}
-				_, _ = Reconstruct(s, k, FrameOptions{Accel: AccelOptions{Method: m}, Fluid: Water20, Exit: ex,
+				name := fmt.Sprintf("%dx%d %v frame %d", sz[0], sz[1], m, k)
+				r, err := Reconstruct(s, k, FrameOptions{Accel: AccelOptions{Method: m}, Fluid: Water20, Exit: ex,
 					Solve: Options{Dirichlet: Top | Right}})
-				_, _ = Reconstruct(s, k, FrameOptions{Accel: AccelOptions{Method: m, Rest: true, RestTime: -1}, Fluid: Water20})
+				check(name+" with exit", r, err, g)
+				r, err = Reconstruct(s, k, FrameOptions{Accel: AccelOptions{Method: m, Rest: true, RestTime: -1}, Fluid: Water20})
+				check(name+" from rest", r, err, g)
 			}
 		}
 	}
