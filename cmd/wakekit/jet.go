@@ -50,6 +50,15 @@ column (the summary gives exit_station_x_m); a mask reaching beyond the exit sta
 Writes summary.json, timeseries.csv, PNG plots and report.html into the output folder, and
 prints the summary table.
 
+Per-frame maps (default none): --maps vorticity,q,lambda2,swirl,... takes the quantities of
+"wakekit derive" (central differences) and --maps pressure the pressure of route (a); they are
+written in --map-format (csv, vtk, png) into OUT/maps, one file per frame and format, by the
+same code as those commands: FRAME.csv, FRAME.vtk and FRAME_QUANTITY.png for the derived
+quantities (with derive.csv), FRAME_pressure.csv, FRAME_pressure.vtk and
+FRAME_pressure_p.png for the pressure (with pressure.csv and exit_forces.csv). The maps
+folder keeps a manifest: a run stopped while writing maps keeps the frames done, and the same
+command with --resume writes only the rest.
+
 Examples:
   wakekit jet run07/frames.csv --axisymmetric --axis 0 --exit 0 --diameter 0.025 --lip 0.01375 --out run07-jet
   wakekit jet 'slot/*.csv' --slot --axis 0.04 --exit 0.002 --diameter 0.01 --noise 0.002 --label "slot B" --param s_over_D=1.5
@@ -72,7 +81,9 @@ type jetSettings struct {
 	smooth      int
 	noPressure  bool
 	solid       *solidMask // solid nodes applied to every frame, or nil
-	restTime    float64    // time the tank was at rest (NaN: unknown)
+	maps        *jetMaps   // per-frame maps to write, or nil
+	read        piv.ReadOptions
+	restTime    float64 // time the tank was at rest (NaN: unknown)
 	label       string
 	params      map[string]string
 	title       string // report title
@@ -102,6 +113,8 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.StringVar(&rest, "rest", "", "time [s] at which the fluid was at rest, before the first frame (improves the first frames' acceleration)")
 	fs.StringVar(&s.label, "label", "", "label of this run, recorded in the summary (for compare)")
 	sf := addSolidFlags(fs)
+	mapList := fs.String("maps", "", "write per-frame maps into OUT/maps: quantities of \"wakekit derive\" (vorticity, q, lambda2, swirl, ...) and/or pressure, comma-separated (default: none)")
+	mapFormat := fs.String("map-format", "png", "formats of the per-frame maps, comma-separated: csv, vtk, png")
 	fs.StringArrayVar(&params, "param", nil, "run parameter KEY=VALUE recorded in the summary (repeatable; for compare --by KEY)")
 	return func(e *env, args []string) error {
 		s.seed = uint64(seed)
@@ -139,7 +152,20 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 			}
 			s.restTime = t
 		}
+		if fs.Changed("maps") {
+			if s.maps, err = parseJetMaps(*mapList, *mapFormat); err != nil {
+				return err
+			}
+			if s.maps.pressure && s.noPressure {
+				return usagef("--maps pressure needs the pressure reconstruction: leave out --no-pressure")
+			}
+		} else if fs.Changed("map-format") {
+			return usagef("--map-format needs --maps (the quantities to map)")
+		}
 		if s.params, err = parseParams(params); err != nil {
+			return err
+		}
+		if s.read, err = rf.options(); err != nil {
 			return err
 		}
 		series, err := rf.open(args)
@@ -147,15 +173,11 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return err
 		}
 		if s.solid != nil {
-			opt, err := rf.options()
-			if err != nil {
-				return err
-			}
 			first, err := series.Frame(0)
 			if err != nil {
 				return err
 			}
-			if err := s.solid.load(first, opt); err != nil {
+			if err := s.solid.load(first, s.read); err != nil {
 				return err
 			}
 		}
@@ -171,12 +193,18 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if s.label != "" {
 			s.title += ": " + s.label
 		}
-		out, err := runJet(context.Background(), e, series, s, run, args, dirFn)
+		// SIGINT or SIGTERM stops the run; maps already written are kept for --resume.
+		ctx, stop := pipeline.SignalContext(context.Background())
+		defer stop()
+		out, err := runJet(ctx, e, series, s, run, args, dirFn)
 		if err != nil {
 			return err
 		}
 		printJetSummary(e.stdout, out)
 		fmt.Fprintf(e.stdout, "\nReport: %s\n", filepath.Join(dir, "report.html"))
+		if out.mapsDir != "" {
+			fmt.Fprintf(e.stdout, "Maps: %s (%s)\n", out.mapsDir, out.mapsReport)
+		}
 		return nil
 	}
 }
@@ -264,6 +292,8 @@ type jetOutcome struct {
 	seriesRef  *piv.Series            // for the snapshot maps (with the solid mask applied)
 	measure    circulation.ExitConfig // the exit as measured: X moved off a wall's end face
 	stationX   float64                // x of the exit station column [m]
+	mapsDir    string                 // folder of the per-frame maps ("" for none)
+	mapsReport pipeline.Report
 }
 
 // runJet analyses the series and writes the outputs into the folder dirFn returns, which it
@@ -491,6 +521,15 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	if err != nil {
 		return nil, err
 	}
+	// The maps come first: a run stopped while writing them has written no summary yet, and
+	// --resume finishes the maps and then writes it.
+	if s.maps != nil {
+		rep, mdir, err := writeJetMaps(ctx, e, series, s, run, dir, popt, first.Geometry)
+		if err != nil {
+			return nil, err
+		}
+		out.mapsDir, out.mapsReport = mdir, rep
+	}
 	if err := writeJetOutputs(dir, out, inputs); err != nil {
 		return nil, err
 	}
@@ -592,6 +631,17 @@ func (o *jetOutcome) summary(inputs []string) jsonSummary {
 		},
 		Noise:       map[string]any{"sigma_m_s": num(o.noise), "source": o.noiseFrom, "samples": s.samples, "seed": s.seed},
 		NotMeasured: o.notDone,
+	}
+	if m := s.maps; m != nil {
+		var names []string
+		for _, q := range m.derive {
+			names = append(names, q.name)
+		}
+		if m.pressure {
+			names = append(names, "pressure")
+		}
+		js.Settings["maps"] = names
+		js.Settings["map_formats"] = m.formats
 	}
 	if s.solid != nil {
 		for k, v := range s.solid.settings() {
