@@ -105,8 +105,8 @@ func ParseStatus(text string) (Status, error) {
 // Geometry says how a field's plane is to be read: planar, or the meridional plane of an
 // axisymmetric flow about the line y = AxisY, with x axial and r = y - AxisY radial.
 type Geometry struct {
-	Axisymmetric bool
-	AxisY        float64
+	Axisymmetric bool    `json:"axisymmetric"`
+	AxisY        float64 `json:"axis_y_m"`
 }
 
 // R returns the radial coordinate of a point at height y (y itself for planar geometry,
