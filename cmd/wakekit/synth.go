@@ -536,8 +536,12 @@ type synthSummary struct {
 	Geometry   string                   `json:"geometry"`
 	Parameters map[string]piv.JSONFloat `json:"parameters"`
 	Grid       struct {
-		NX, NY         int
-		X0, Y0, DX, DY piv.JSONFloat
+		NX int           `json:"nx"`
+		NY int           `json:"ny"`
+		X0 piv.JSONFloat `json:"x0_m"`
+		Y0 piv.JSONFloat `json:"y0_m"`
+		DX piv.JSONFloat `json:"dx_m"`
+		DY piv.JSONFloat `json:"dy_m"`
 	} `json:"grid"`
 	Frames      int                      `json:"frames"`
 	T0          piv.JSONFloat            `json:"t0"`
