@@ -224,19 +224,63 @@ func Line(f *piv.Field, c *Contour, opt LineOptions) (LineResult, error) {
 	if g.NX < 2 || g.NY < 2 {
 		return res, fmt.Errorf("%s: a line integral needs a grid of at least 2x2 nodes", f.Name())
 	}
+	// The bounds of piv.Grid.Contains, formed once.
+	const eps = 1e-9
+	xlo, xhi := g.X0-eps*g.DX, g.XMax()+eps*g.DX
+	ylo, yhi := g.Y0-eps*g.DY, g.YMax()+eps*g.DY
+	X, Y, TX, TY, W := c.X[:n], c.Y[:n], c.TX[:n], c.TY[:n], c.W[:n]
+	s := newSampler(f, opt.Interp)
+	// First pass: sample and sum at once, which is all a contour without gaps needs; the
+	// sum runs in the same order as the second pass's, so the result is the same.
+	var wRep, wAll, sum float64
+	gap := false
 	for k := 0; k < n; k++ {
-		if !g.Contains(c.X[k], c.Y[k]) {
-			return res, fmt.Errorf("%s: the contour leaves the field at (%.6g, %.6g) m; the field covers x %.6g..%.6g m, y %.6g..%.6g m",
-				f.Name(), c.X[k], c.Y[k], g.X0, g.XMax(), g.Y0, g.YMax())
+		x, y := X[k], Y[k]
+		if !(x >= xlo && x <= xhi && y >= ylo && y <= yhi) {
+			return res, outside(f, x, y)
+		}
+		w := W[k]
+		wAll += w
+		u, v, rep, ok := s.at(x, y)
+		if !ok {
+			gap = true
+			break
+		}
+		if rep {
+			wRep += w
+		}
+		q := 0.0
+		if w > 0 {
+			q = (u*TX[k] + v*TY[k]) / w
+		}
+		sum += q * w
+	}
+	if !gap {
+		if wAll > 0 {
+			res.ReplacedShare = wRep / wAll
+		}
+		res.BadShare = res.ReplacedShare + res.GapShare
+		if res.BadShare > opt.maxBad() {
+			return refuse(f, res, opt)
+		}
+		res.Gamma = sum
+		return res, nil
+	}
+	// A gap: check the rest of the contour, then sample again keeping the tangential
+	// velocity of every point for the bridging.
+	for k := 0; k < n; k++ {
+		if !(X[k] >= xlo && X[k] <= xhi && Y[k] >= ylo && Y[k] <= yhi) {
+			return res, outside(f, X[k], Y[k])
 		}
 	}
 	// q holds the tangential velocity u·T/|T| at each point (NaN in a gap).
 	q := make([]float64, n)
-	var wRep, wGap, wAll float64
+	var wGap float64
+	wRep, wAll = 0, 0
 	for k := 0; k < n; k++ {
-		w := c.W[k]
+		w := W[k]
 		wAll += w
-		u, v, rep, ok := sampleStatus(f, c.X[k], c.Y[k], opt.Interp)
+		u, v, rep, ok := s.at(X[k], Y[k])
 		if !ok {
 			wGap += w
 			q[k] = math.NaN()
@@ -246,7 +290,7 @@ func Line(f *piv.Field, c *Contour, opt LineOptions) (LineResult, error) {
 			wRep += w
 		}
 		if w > 0 {
-			q[k] = (u*c.TX[k] + v*c.TY[k]) / w
+			q[k] = (u*TX[k] + v*TY[k]) / w
 		}
 	}
 	if wAll > 0 {
@@ -254,23 +298,34 @@ func Line(f *piv.Field, c *Contour, opt LineOptions) (LineResult, error) {
 	}
 	res.BadShare = res.ReplacedShare + res.GapShare
 	if res.BadShare > opt.maxBad() || res.GapShare >= 1 {
-		msg := fmt.Sprintf("%s: %.1f %% of the contour lies next to replaced, missing or solid nodes (limit %.1f %%)",
-			f.Name(), 100*res.BadShare, 100*opt.maxBad())
-		if opt.NaNOnBad {
-			res.Warning = msg
-			return res, nil
-		}
-		return res, fmt.Errorf("%s: %w", msg, ErrQuality)
+		return refuse(f, res, opt)
 	}
-	if wGap > 0 {
-		bridge(q, c.S, c.Length)
-	}
-	sum := 0.0
+	bridge(q, c.S, c.Length)
+	sum = 0
 	for k := 0; k < n; k++ {
-		sum += q[k] * c.W[k]
+		sum += q[k] * W[k]
 	}
 	res.Gamma = sum
 	return res, nil
+}
+
+// outside is the error for a contour point (x, y) that lies outside the field.
+func outside(f *piv.Field, x, y float64) error {
+	g := f.Grid
+	return fmt.Errorf("%s: the contour leaves the field at (%.6g, %.6g) m; the field covers x %.6g..%.6g m, y %.6g..%.6g m",
+		f.Name(), x, y, g.X0, g.XMax(), g.Y0, g.YMax())
+}
+
+// refuse returns res with the quality refusal: an error wrapping ErrQuality, or under
+// opt.NaNOnBad a NaN circulation with the message as its Warning.
+func refuse(f *piv.Field, res LineResult, opt LineOptions) (LineResult, error) {
+	msg := fmt.Sprintf("%s: %.1f %% of the contour lies next to replaced, missing or solid nodes (limit %.1f %%)",
+		f.Name(), 100*res.BadShare, 100*opt.maxBad())
+	if opt.NaNOnBad {
+		res.Warning = msg
+		return res, nil
+	}
+	return res, fmt.Errorf("%s: %w", msg, ErrQuality)
 }
 
 // bridge fills NaN runs of the periodic sequence q (at arc positions s on a closed curve of
@@ -311,41 +366,80 @@ func bridge(q, s []float64, length float64) {
 // touches a replaced node; ok is false when no velocity can be formed (missing or solid nodes).
 // Bicubic falls back to bilinear where its 4x4 stencil holds non-valid nodes.
 func sampleStatus(f *piv.Field, x, y float64, m piv.Interp) (u, v float64, rep, ok bool) {
+	s := newSampler(f, m)
+	return s.at(x, y)
+}
+
+// sampler interpolates the velocity of a field at a sequence of points, as sampleStatus does.
+// Points along a contour fall many times into one grid cell in a row, so it keeps the status
+// summary of the last cell's stencils and reads the statuses again only in a new cell.
+type sampler struct {
+	u, v       []float64
+	st         []piv.Status
+	x0, y0     float64
+	dx, dy     float64
+	nx, ny     int
+	bicubic    bool
+	cell       int        // index of the lower-left node of the cached cell, -1 for none
+	or16, or4  piv.Status // OR of the statuses of its 4x4 (when interior) and 2x2 stencils
+	interior16 bool       // the 4x4 stencil fits in the grid
+}
+
+func newSampler(f *piv.Field, m piv.Interp) sampler {
 	g := f.Grid
-	fi, fj := g.Frac(x, y)
-	i0, j0 := int(math.Floor(fi)), int(math.Floor(fj))
-	i0 = min(max(i0, 0), g.NX-2)
-	j0 = min(max(j0, 0), g.NY-2)
+	return sampler{u: f.U, v: f.V, st: f.Status, x0: g.X0, y0: g.Y0, dx: g.DX, dy: g.DY, nx: g.NX, ny: g.NY,
+		bicubic: m == piv.Bicubic, cell: -1}
+}
+
+// at interpolates the velocity at (x, y); see sampleStatus.
+func (s *sampler) at(x, y float64) (u, v float64, rep, ok bool) {
+	nx, ny := s.nx, s.ny
+	fi, fj := (x-s.x0)/s.dx, (y-s.y0)/s.dy // piv.Grid.Frac
+	// The lower-left node of the cell, kept inside the grid. Truncation equals the floor for
+	// fi ≥ 0, and every negative fi (or NaN) ends at 0 either way.
+	i0 := min(max(int(fi), 0), nx-2)
+	j0 := min(max(int(fj), 0), ny-2)
 	tx, ty := fi-float64(i0), fj-float64(j0)
-	if m == piv.Bicubic && i0 >= 1 && j0 >= 1 && i0+2 < g.NX && j0+2 < g.NY {
-		// Keys' cubic convolution as in piv.Sample, with the weights shared by u and v and the
-		// stencil's status checked in the same pass.
+	k := j0*nx + i0
+	if k != s.cell {
+		// Kinds Missing (2) and Solid (3) have bit 1 set, Replaced (1) only bit 0: the OR of a
+		// stencil's statuses says at once whether it is usable and touches a filled node.
+		s.cell = k
+		r0, r1 := s.st[k:k+2], s.st[k+nx:k+nx+2]
+		s.or4 = r0[0] | r0[1] | r1[0] | r1[1]
+		s.interior16 = i0 >= 1 && j0 >= 1 && i0+2 < nx && j0+2 < ny
+		if s.bicubic && s.interior16 {
+			var or piv.Status
+			for b := 0; b < 4; b++ {
+				row := (j0-1+b)*nx + i0 - 1
+				st := s.st[row : row+4 : row+4]
+				or |= st[0] | st[1] | st[2] | st[3]
+			}
+			s.or16 = or
+		}
+	}
+	if s.bicubic && s.interior16 && s.or16&2 == 0 {
+		// Keys' cubic convolution as in piv.Sample, with the weights shared by u and v.
 		wx, wy := keys(tx), keys(ty)
 		var su, sv float64
-		// Kinds Missing (2) and Solid (3) have bit 1 set, Replaced (1) only bit 0: the OR of
-		// the 16 statuses says at once whether the stencil is usable and touches a filled node.
-		var or piv.Status
 		for b := 0; b < 4; b++ {
-			row := (j0-1+b)*g.NX + i0 - 1
-			st, us, vs := f.Status[row:row+4], f.U[row:row+4], f.V[row:row+4]
-			or |= st[0] | st[1] | st[2] | st[3]
+			row := (j0-1+b)*nx + i0 - 1
+			us, vs := s.u[row:row+4:row+4], s.v[row:row+4:row+4]
 			su += wy[b] * (wx[0]*us[0] + wx[1]*us[1] + wx[2]*us[2] + wx[3]*us[3])
 			sv += wy[b] * (wx[0]*vs[0] + wx[1]*vs[1] + wx[2]*vs[2] + wx[3]*vs[3])
 		}
-		if or&2 == 0 && !math.IsNaN(su) && !math.IsNaN(sv) {
-			return su, sv, or&1 != 0, true
+		if !math.IsNaN(su) && !math.IsNaN(sv) {
+			return su, sv, s.or16&1 != 0, true
 		}
 	}
-	k := j0*g.NX + i0
-	r0, r1 := k, k+g.NX
-	st0, st1 := f.Status[r0:r0+2], f.Status[r1:r1+2]
-	or := st0[0] | st0[1] | st1[0] | st1[1]
-	rep = or&2 == 0 && or&1 != 0
+	or := s.or4
 	if or&2 != 0 {
 		return 0, 0, false, false
 	}
+	rep = or&1 != 0
+	r0, r1 := k, k+nx
 	w00, w10, w01, w11 := (1-tx)*(1-ty), tx*(1-ty), (1-tx)*ty, tx*ty
-	u0, u1, v0, v1 := f.U[r0:r0+2], f.U[r1:r1+2], f.V[r0:r0+2], f.V[r1:r1+2]
+	u0, u1, v0, v1 := s.u[r0:r0+2], s.u[r1:r1+2], s.v[r0:r0+2], s.v[r1:r1+2]
 	u = w00*u0[0] + w10*u0[1] + w01*u1[0] + w11*u1[1]
 	v = w00*v0[0] + w10*v0[1] + w01*v1[0] + w11*v1[1]
 	if math.IsNaN(u) || math.IsNaN(v) {
