@@ -107,3 +107,32 @@ func BudgetSpread(base []BudgetFigure, reps [][]BudgetFigure) []float64 {
 	}
 	return out
 }
+
+// BudgetSampleSpread returns, for each sample k of a history, the sample standard deviation of
+// reps[r][k] over the Monte-Carlo replicas r (NaN with fewer than two finite values), for
+// uncertainty bands on per-frame curves.
+func BudgetSampleSpread(reps [][]float64) []float64 {
+	n := 0
+	for _, r := range reps {
+		n = max(n, len(r))
+	}
+	out := make([]float64, n)
+	for k := range out {
+		var sum, sq, m float64
+		for _, r := range reps {
+			if k >= len(r) || math.IsNaN(r[k]) || math.IsInf(r[k], 0) {
+				continue
+			}
+			sum += r[k]
+			sq += r[k] * r[k]
+			m++
+		}
+		if m < 2 {
+			out[k] = math.NaN()
+			continue
+		}
+		mean := sum / m
+		out[k] = math.Sqrt(math.Max(sq/m-mean*mean, 0) * m / (m - 1))
+	}
+	return out
+}

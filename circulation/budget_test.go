@@ -161,6 +161,26 @@ func TestBudgetSpread(t *testing.T) {
 	}
 }
 
+// The per-sample spread of replica histories is the sample standard deviation at each sample,
+// checked against gonum's stat.StdDev; NaN values are left out and short replicas count only
+// where they have samples.
+func TestBudgetSampleSpread(t *testing.T) {
+	reps := [][]float64{{1, 2.5, 3}, {1.4, math.NaN(), 2}, {0.9, 2.1}, {1.3, 2.2, math.Inf(1)}}
+	s := BudgetSampleSpread(reps)
+	if len(s) != 3 {
+		t.Fatalf("%d samples, want 3", len(s))
+	}
+	for k, want := range []float64{stat.StdDev([]float64{1, 1.4, 0.9, 1.3}, nil), stat.StdDev([]float64{2.5, 2.1, 2.2}, nil),
+		stat.StdDev([]float64{3, 2}, nil)} {
+		if math.Abs(s[k]-want) > 1e-12 {
+			t.Errorf("sample %d: %g, gonum %g", k, s[k], want)
+		}
+	}
+	if s := BudgetSampleSpread([][]float64{{1}}); !math.IsNaN(s[0]) {
+		t.Errorf("one replica: %g, want NaN", s[0])
+	}
+}
+
 // A counter-rotating Lamb–Oseen pair, the planar analogue of a ring's section, seen above its
 // symmetry line: the circulation in view is Gamma and the impulse per unit depth of the pair
 // rho Gamma d (Saffman, Vortex Dynamics, 1992, ch. 3; section from memory). The Gaussian tails cut

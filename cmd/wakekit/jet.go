@@ -293,7 +293,10 @@ type jetOutcome struct {
 	measure    circulation.ExitConfig // the exit as measured: X moved off a wall's end face
 	stationX   float64                // x of the exit station column [m]
 	mapsDir    string                 // folder of the per-frame maps ("" for none)
-	mapsReport pipeline.Report
+	// bandForce, bandPB and bandPA are the per-frame Monte-Carlo spreads of dI/dt and of the
+	// route (b) and (a) over-pressure forces (nil without replicas).
+	bandForce, bandPB, bandPA []float64
+	mapsReport                pipeline.Report
 }
 
 // runJet analyses the series and writes the outputs into the folder dirFn returns, which it
@@ -469,8 +472,13 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 	}
 	out.pulses = circulation.BudgetPulses(out.series, pulses, meas, axi)
 	reps := make([][]circulation.BudgetPulse, samples)
+	var repForce, repPB, repPA [][]float64
 	for r := range reps {
 		h := circulation.BudgetHistories(repRecs[r], meas, s.smooth)
+		repForce, repPB = append(repForce, h.Force), append(repPB, h.PressureB)
+		if r < pressureSamples {
+			repPA = append(repPA, h.PressureA)
+		}
 		// Each replica finds its own pulses, so the detection's sensitivity to noise enters the
 		// spread; a replica that splits the record differently keeps the measured pulses.
 		rp := pulses
@@ -486,6 +494,9 @@ func runJet(ctx context.Context, e *env, series *piv.Series, s *jetSettings, run
 		}
 		reps[r] = circulation.BudgetPulses(h, rp, meas, axi)
 	}
+	out.bandForce = circulation.BudgetSampleSpread(repForce)
+	out.bandPB = circulation.BudgetSampleSpread(repPB)
+	out.bandPA = circulation.BudgetSampleSpread(repPA)
 	for q, p := range out.pulses {
 		base := p.Figures()
 		var rf, rfp [][]circulation.BudgetFigure
@@ -782,21 +793,23 @@ func jetPlots(o *jetOutcome) ([]jetPlot, error) {
 	}{
 		{"exit_program.png", "Exit velocity program",
 			"Area-averaged exit velocity U0 and centreline velocity at the exit station, with the pulse start, the ends of acceleration and deceleration, and the pulse end.",
-			report.LinePlot{Title: "Exit velocity program", XLabel: "t [s]", YLabel: "velocity [m/s]", Markers: markers,
+			report.LinePlot{Title: "Exit velocity program", XLabel: "t", XUnit: "s", YLabel: "velocity", YUnit: "m/s", Markers: markers,
 				Lines: []report.Line{{Label: "U0 (area average)", X: s.T, Y: s.U0}, {Label: "centreline", X: s.T, Y: s.Centre, Dashed: true}}}},
 		{"circulation_budget.png", "Circulation budget versus formation time",
 			"Circulation in view, its leading-ring share, the slug-model circulation (1/2) int U0^2 dt and the circulation delivered by the vorticity flux through the exit station, against the formation time t* = L/D. After the pulse t* stays constant and the curves show the later evolution as vertical runs.",
-			report.LinePlot{Title: "Circulation budget", XLabel: "formation time L/D", YLabel: "circulation [m^2/s]", LegendLeft: true,
+			report.LinePlot{Title: "Circulation budget", XLabel: "formation time L/D", YLabel: "circulation", YUnit: "m^2/s",
 				Lines: []report.Line{{Label: "in view", X: s.TStar, Y: s.Gamma}, {Label: "leading ring", X: s.TStar, Y: s.RingGamma, Dashed: true},
 					{Label: "slug model", X: s.TStar, Y: s.Slug}, {Label: "delivered (flux)", X: s.TStar, Y: s.Delivered, Dashed: true}}}},
 		{"thrust_split.png", "Thrust split versus time",
-			"Exit momentum flux F_m, over-pressure force by route (a) (reconstructed exit pressure) and by route (b) (dI/dt - F_m - measured exchange outside the lip), and the wake's dI/dt.",
-			report.LinePlot{Title: "Thrust split", XLabel: "t [s]", YLabel: "force [" + unit + "]", Markers: markers,
-				Lines: []report.Line{{Label: "momentum flux F_m", X: s.T, Y: s.Fm}, {Label: "over-pressure (a)", X: s.T, Y: s.PressureA},
-					{Label: "over-pressure (b)", X: s.T, Y: s.PressureB, Dashed: true}, {Label: "dI/dt", X: s.T, Y: s.Force, Dashed: true}}}},
+			"Exit momentum flux F_m, over-pressure force by route (a) (reconstructed exit pressure) and by route (b) (dI/dt - F_m - measured exchange outside the lip), and the wake's dI/dt, with the pulse start, the ends of acceleration and deceleration, and the pulse end. " +
+				"The light bands are the one-sigma Monte-Carlo spread of each frame's value: dI/dt differentiates the impulse of the whole half-plane in view, so the velocity noise makes it, and route (b) with it, far noisier than the exit-plane forces. After the pulse F_m is nearly zero and route (b) follows dI/dt.",
+			report.LinePlot{Title: "Thrust split", XLabel: "t", XUnit: "s", YLabel: "force", YUnit: unit, Markers: markers,
+				Lines: []report.Line{{Label: "momentum flux F_m", X: s.T, Y: s.Fm}, {Label: "over-pressure (a)", X: s.T, Y: s.PressureA, Band: o.bandPA},
+					{Label: "over-pressure (b)", X: s.T, Y: s.PressureB, Dashed: true, Thin: true, Band: o.bandPB},
+					{Label: "dI/dt", X: s.T, Y: s.Force, Thin: true, Band: o.bandForce}}}},
 		{"ring_path.png", "Leading ring",
 			"Axial position of the ring core (peak of the circulation per unit length) and its radial position (peak vorticity), with the impulse radius.",
-			report.LinePlot{Title: "Leading ring", XLabel: "t [s]", YLabel: "position [m]",
+			report.LinePlot{Title: "Leading ring", XLabel: "t", XUnit: "s", YLabel: "position", YUnit: "m",
 				Lines: []report.Line{{Label: "core x", X: s.T, Y: s.RingX}, {Label: "core r", X: s.T, Y: s.CoreR}, {Label: "impulse radius", X: s.T, Y: s.RingR, Dashed: true}}}},
 	}
 	var out []jetPlot

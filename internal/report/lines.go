@@ -5,11 +5,13 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
 )
 
 // Line is one curve of a line plot. NaN values break the curve into pieces.
@@ -18,6 +20,11 @@ type Line struct {
 	X, Y   []float64
 	Dashed bool
 	Points bool // draw markers at the samples as well
+	// Band, when not nil, is a one-standard-deviation uncertainty per sample, drawn as a
+	// light band Y - Band .. Y + Band behind the curve.
+	Band []float64
+	// Thin draws the curve with a thinner line (for noisy curves drawn over a band).
+	Thin bool
 }
 
 // Marker is a labelled vertical line, e.g. a pulse phase boundary.
@@ -29,11 +36,17 @@ type Marker struct {
 // LinePlot describes a plot of curves against a common axis.
 type LinePlot struct {
 	Title, XLabel, YLabel string
-	Lines                 []Line
-	Markers               []Marker
+	// XUnit and YUnit are the SI units of the data (e.g. "N", "m^2/s"); when set, the axis
+	// shows the data in the display unit Format would pick for its largest value (mN, mm²/s)
+	// and the label gets it in brackets. Empty: the values are drawn as they are and the
+	// label is used as given.
+	XUnit, YUnit string
+	Lines        []Line
+	Markers      []Marker
 	// Width and Height in centimetres (0 means 16 x 10).
 	Width, Height float64
-	// LegendLeft puts the legend in the top left corner instead of the top right.
+	// LegendLeft is kept for compatibility; the legend is always drawn outside the data area,
+	// to the right of it, so it never covers a curve.
 	LegendLeft bool
 }
 
@@ -68,30 +81,131 @@ func pieces(x, y []float64) []plotter.XYs {
 	return out
 }
 
-// PNG renders the plot as a PNG image at 150 dots per inch.
+// plotDPI is the resolution of line plots: sharp on screens and in print (common practice).
+const plotDPI = 150
+
+// axisScale returns the display scale of one axis for the data values vals.
+func axisScale(unit string, vals ...[]float64) Scale {
+	if unit == "" {
+		return Scale{}
+	}
+	m := 0.0
+	for _, v := range vals {
+		for _, x := range v {
+			if !math.IsNaN(x) && !math.IsInf(x, 0) {
+				m = math.Max(m, math.Abs(x))
+			}
+		}
+	}
+	return ScaleFor(m, unit)
+}
+
+func axisLabel(label string, unit string, sc Scale) string {
+	if unit == "" || sc.Unit == "" {
+		return label
+	}
+	return label + " [" + sc.Unit + "]"
+}
+
+func scaled(v []float64, f float64) []float64 {
+	if f == 1 || v == nil {
+		return v
+	}
+	out := make([]float64, len(v))
+	for k, x := range v {
+		out[k] = x * f
+	}
+	return out
+}
+
+// lighter mixes c with white: share 0 is c, 1 is white.
+func lighter(c color.Color, share float64) color.Color {
+	r, g, b, _ := c.RGBA()
+	mix := func(v uint32) uint8 { return uint8(float64(v>>8)*(1-share) + 255*share) }
+	return color.RGBA{R: mix(r), G: mix(g), B: mix(b), A: 0xff}
+}
+
+// PNG renders the plot as a PNG image at 150 dots per inch. The legend sits outside the data
+// area, to the right of it; ticks are at round numbers (1, 2 or 5 times a power of ten).
 func (lp LinePlot) PNG() ([]byte, error) {
+	var xs, ys []([]float64)
+	for _, l := range lp.Lines {
+		xs = append(xs, l.X)
+		ys = append(ys, l.Y)
+	}
+	xsc, ysc := axisScale(lp.XUnit, xs...), axisScale(lp.YUnit, ys...)
+	xf, yf := 1.0, 1.0
+	if lp.XUnit != "" {
+		xf = xsc.Factor()
+	}
+	if lp.YUnit != "" {
+		yf = ysc.Factor()
+	}
 	p := plot.New()
 	p.Title.Text = lp.Title
-	p.X.Label.Text = lp.XLabel
-	p.Y.Label.Text = lp.YLabel
-	p.Legend.Top = true
-	p.Legend.Left = lp.LegendLeft
+	p.X.Label.Text = axisLabel(lp.XLabel, lp.XUnit, xsc)
+	p.Y.Label.Text = axisLabel(lp.YLabel, lp.YUnit, ysc)
+	p.X.Tick.Marker = niceTicks{}
+	p.Y.Tick.Marker = niceTicks{}
 	p.Add(plotter.NewGrid())
 	any := false
+	// Bands first, so that every curve is drawn over them.
+	for n, l := range lp.Lines {
+		if l.Band == nil {
+			continue
+		}
+		col := lighter(lineColours[n%len(lineColours)], 0.75)
+		x, y := scaled(l.X, xf), scaled(l.Y, yf)
+		b := scaled(l.Band, yf)
+		lo, hi := make([]float64, len(y)), make([]float64, len(y))
+		for k := range y {
+			bk := math.NaN()
+			if k < len(b) {
+				bk = b[k]
+			}
+			lo[k], hi[k] = y[k]-bk, y[k]+bk
+		}
+		// hi and lo are NaN at the same samples, so their pieces pair up one to one.
+		ups, downs := pieces(x, hi), pieces(x, lo)
+		for q, up := range ups {
+			if q >= len(downs) || len(up) < 2 || len(downs[q]) != len(up) {
+				continue
+			}
+			down := downs[q]
+			ring := append(plotter.XYs(nil), up...)
+			for k := len(down) - 1; k >= 0; k-- {
+				ring = append(ring, down[k])
+			}
+			poly, err := plotter.NewPolygon(ring)
+			if err != nil {
+				return nil, fmt.Errorf("plot %q, band of %q: %w", lp.Title, l.Label, err)
+			}
+			poly.Color = col
+			poly.LineStyle.Width = 0
+			p.Add(poly)
+		}
+	}
+	var legend []legendEntry
 	for n, l := range lp.Lines {
 		col := lineColours[n%len(lineColours)]
-		for q, xy := range pieces(l.X, l.Y) {
+		for q, xy := range pieces(scaled(l.X, xf), scaled(l.Y, yf)) {
 			line, err := plotter.NewLine(xy)
 			if err != nil {
 				return nil, fmt.Errorf("plot %q, curve %q: %w", lp.Title, l.Label, err)
 			}
 			line.Color = col
 			line.Width = vg.Points(1.5)
+			if l.Thin {
+				line.Width = vg.Points(0.8)
+			}
 			if l.Dashed {
 				line.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
 			}
 			p.Add(line)
 			var thumb []plot.Thumbnailer
+			if l.Band != nil {
+				thumb = append(thumb, bandThumb{lighter(col, 0.75)})
+			}
 			thumb = append(thumb, line)
 			if l.Points {
 				sc, err := plotter.NewScatter(xy)
@@ -105,7 +219,7 @@ func (lp LinePlot) PNG() ([]byte, error) {
 				thumb = append(thumb, sc)
 			}
 			if q == 0 && l.Label != "" {
-				p.Legend.Add(l.Label, thumb...)
+				legend = append(legend, legendEntry{l.Label, thumb})
 			}
 			any = true
 		}
@@ -117,8 +231,9 @@ func (lp LinePlot) PNG() ([]byte, error) {
 		if math.IsNaN(m.X) {
 			continue
 		}
+		mx := m.X * xf
 		lo, hi := p.Y.Min, p.Y.Max
-		ml, err := plotter.NewLine(plotter.XYs{{X: m.X, Y: lo}, {X: m.X, Y: hi}})
+		ml, err := plotter.NewLine(plotter.XYs{{X: mx, Y: lo}, {X: mx, Y: hi}})
 		if err != nil {
 			return nil, err
 		}
@@ -126,9 +241,10 @@ func (lp LinePlot) PNG() ([]byte, error) {
 		ml.Dashes = []vg.Length{vg.Points(2), vg.Points(2)}
 		p.Add(ml)
 		if m.Label != "" {
-			lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: m.X, Y: hi}}, Labels: []string{" " + m.Label}})
+			lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: mx, Y: hi}}, Labels: []string{" " + m.Label}})
 			if err == nil {
 				lab.TextStyle[0].Color = color.Gray{Y: 0x55}
+				lab.TextStyle[0].Font.Size = vg.Points(9)
 				p.Add(lab)
 			}
 		}
@@ -137,13 +253,95 @@ func (lp LinePlot) PNG() ([]byte, error) {
 	if w <= 0 || h <= 0 {
 		w, h = 16, 10
 	}
-	wt, err := p.WriterTo(vg.Length(w)*vg.Centimeter, vg.Length(h)*vg.Centimeter, "png")
-	if err != nil {
-		return nil, err
+	c := vgimg.NewWith(vgimg.UseWH(vg.Length(w)*vg.Centimeter, vg.Length(h)*vg.Centimeter), vgimg.UseDPI(plotDPI))
+	dc := draw.New(c)
+	leg := plot.NewLegend()
+	leg.Left, leg.Top = true, true
+	leg.TextStyle.Font.Size = vg.Points(10)
+	for _, e := range legend {
+		leg.Add(e.text, e.thumbs...)
 	}
+	plotArea := dc
+	if len(legend) > 0 {
+		lw := leg.Rectangle(dc).Max.X - leg.Rectangle(dc).Min.X + vg.Points(8)
+		if lw > (dc.Max.X-dc.Min.X)/2 {
+			lw = (dc.Max.X - dc.Min.X) / 2
+		}
+		plotArea = draw.Crop(dc, 0, -lw, 0, 0)
+		legArea := draw.Crop(dc, dc.Max.X-dc.Min.X-lw+vg.Points(6), 0, 0, 0)
+		// Top of the legend level with the top of the data area, below the title.
+		top := vg.Length(0)
+		if p.Title.Text != "" {
+			top = p.Title.TextStyle.Rectangle(p.Title.Text).Size().Y + p.Title.Padding
+		}
+		legArea = draw.Crop(legArea, 0, 0, 0, -top)
+		leg.Draw(legArea)
+	}
+	p.Draw(plotArea)
 	var buf bytes.Buffer
-	if _, err := wt.WriteTo(&buf); err != nil {
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
 		return nil, err
 	}
 	return buf.Bytes(), nil
+}
+
+type legendEntry struct {
+	text   string
+	thumbs []plot.Thumbnailer
+}
+
+// bandThumb draws a legend thumbnail of an uncertainty band: a light box.
+type bandThumb struct{ c color.Color }
+
+// Thumbnail implements plot.Thumbnailer.
+func (b bandThumb) Thumbnail(c *draw.Canvas) {
+	h := c.Max.Y - c.Min.Y
+	r := vg.Rectangle{Min: vg.Point{X: c.Min.X, Y: c.Min.Y + h*0.2}, Max: vg.Point{X: c.Max.X, Y: c.Max.Y - h*0.2}}
+	c.SetColor(b.c)
+	c.Fill(r.Path())
+}
+
+// niceTicks puts major ticks at round numbers, 1, 2 or 5 times a power of ten, two to nine
+// over the range, labelled with just the decimals the step needs, and minor ticks between.
+type niceTicks struct{}
+
+// Ticks implements plot.Ticker.
+func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) {
+		return []plot.Tick{{Value: lo, Label: strconv.FormatFloat(lo, 'g', 4, 64)}}
+	}
+	// The first of 1, 2, 5, 10, 20, 50 times a tenth of the range's power of ten that gives at
+	// most eight intervals.
+	mag := math.Pow(10, math.Floor(math.Log10(hi-lo))-1)
+	step, minor := mag, 5.0
+	for _, m := range []float64{1, 2, 5, 10, 20, 50} {
+		step = m * mag
+		minor = 5
+		if m == 2 || m == 20 {
+			minor = 4
+		}
+		if (hi-lo)/step <= 8 {
+			break
+		}
+	}
+	dec := max(0, -int(math.Floor(math.Log10(step)+1e-9)))
+	var out []plot.Tick
+	first := math.Ceil(lo/step-1e-9) * step
+	for k := 0; ; k++ {
+		v := first + float64(k)*step
+		if v > hi+step*1e-9 {
+			break
+		}
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		out = append(out, plot.Tick{Value: v, Label: cleanZero(strconv.FormatFloat(v, 'f', dec, 64))})
+	}
+	ms := step / minor
+	for v := math.Ceil(lo/ms-1e-9) * ms; v <= hi+ms*1e-9; v += ms {
+		if r := math.Mod(math.Abs(v)+ms*1e-6, step); r > ms*1e-3 && r < step-ms*1e-3 {
+			out = append(out, plot.Tick{Value: v})
+		}
+	}
+	return out
 }

@@ -256,6 +256,8 @@ func (m MapPlot) Image(widthPx, heightPx int) (img image.Image, err error) {
 	}
 	p.X.Label.Text = "x [mm]"
 	p.Y.Label.Text = yName + " [mm]"
+	p.X.Tick.Marker = niceTicks{}
+	p.Y.Tick.Marker = niceTicks{}
 	g := m.Grid
 	const mm = 1000.0
 	x0, x1 := (g.X0-g.DX/2)*mm, (g.XMax()+g.DX/2)*mm
@@ -282,6 +284,7 @@ func (m MapPlot) Image(widthPx, heightPx int) (img image.Image, err error) {
 	cm.SetMax(hi)
 	bar.Add(cb)
 	bar.HideX()
+	bar.Y.Tick.Marker = niceTicks{}
 	bar.X.Padding = 0
 	bar.Y.Label.Text = m.Unit
 	if m.Unit != "" {

@@ -24,16 +24,16 @@ func testPlot(t *testing.T) []byte {
 	return b
 }
 
-// A line plot with a gap (NaN) renders as a PNG of the asked size (8 x 5 cm at gonum/plot's
-// 96 dpi: 302 x 189 pixels, within rounding).
+// A line plot with a gap (NaN) renders as a PNG of the asked size (8 x 5 cm at 150 dpi:
+// 472 x 295 pixels, within rounding).
 func TestLinePlotPNG(t *testing.T) {
 	img, err := png.Decode(bytes.NewReader(testPlot(t)))
 	if err != nil {
 		t.Fatal(err)
 	}
 	b := img.Bounds()
-	if math.Abs(float64(b.Dx())-302) > 2 || math.Abs(float64(b.Dy())-189) > 2 {
-		t.Errorf("image %dx%d, want about 302x189", b.Dx(), b.Dy())
+	if math.Abs(float64(b.Dx())-472) > 2 || math.Abs(float64(b.Dy())-295) > 2 {
+		t.Errorf("image %dx%d, want about 472x295", b.Dx(), b.Dy())
 	}
 	if _, err := (LinePlot{Title: "empty", Lines: []Line{{X: []float64{math.NaN()}, Y: []float64{1}}}}).PNG(); err == nil {
 		t.Error("plot without finite data accepted")
@@ -95,5 +95,50 @@ func TestReportSelfContained(t *testing.T) {
 	}
 	if err := (&Report{Images: []Image{{Title: "bad", PNG: []byte("nope")}}}).Write(&buf); err == nil {
 		t.Error("non-PNG image accepted")
+	}
+}
+
+// Major ticks fall on round numbers (1, 2 or 5 times a power of ten), include zero when the
+// range spans it, and carry no more decimals than the step needs.
+func TestNiceTicks(t *testing.T) {
+	for _, c := range []struct {
+		lo, hi float64
+		want   []string
+	}{
+		{-0.62, 1.6, []string{"-0.5", "0.0", "0.5", "1.0", "1.5"}},
+		{0.25, 6.75, []string{"1", "2", "3", "4", "5", "6"}},
+		{8.4, 122, []string{"20", "40", "60", "80", "100", "120"}},
+		{0, 0.05, []string{"0.00", "0.01", "0.02", "0.03", "0.04", "0.05"}},
+		{-3e-4, 1.5e-3, []string{"0.0000", "0.0005", "0.0010", "0.0015"}},
+		{-7.5, 7.5, []string{"-6", "-4", "-2", "0", "2", "4", "6"}},
+		{0, 4.1, []string{"0", "1", "2", "3", "4"}},
+	} {
+		var got []string
+		for _, tk := range (niceTicks{}).Ticks(c.lo, c.hi) {
+			if tk.Label != "" {
+				got = append(got, tk.Label)
+			}
+		}
+		if strings.Join(got, " ") != strings.Join(c.want, " ") {
+			t.Errorf("ticks %g..%g: %v, want %v", c.lo, c.hi, got, c.want)
+		}
+	}
+}
+
+// Axis units are shown in the display unit of the data (as Format picks it), and the data is
+// scaled with it: a force of 1.5e-3 N is drawn in mN.
+func TestLinePlotUnits(t *testing.T) {
+	x := []float64{0, 1, 2}
+	y := []float64{0, 1.5e-3, -4e-4}
+	sc := axisScale("N", y)
+	if sc.Unit != "mN" || axisLabel("force", "N", sc) != "force [mN]" {
+		t.Errorf("scale %+v, label %q", sc, axisLabel("force", "N", sc))
+	}
+	if axisLabel("stroke ratio", "1", axisScale("1", []float64{4})) != "stroke ratio" {
+		t.Error("pure number got a unit")
+	}
+	if _, err := (LinePlot{Title: "f", XLabel: "t", XUnit: "s", YLabel: "force", YUnit: "N",
+		Lines: []Line{{Label: "a", X: x, Y: y, Band: []float64{1e-4, 1e-4, math.NaN()}, Thin: true}}}).PNG(); err != nil {
+		t.Fatal(err)
 	}
 }
