@@ -271,7 +271,7 @@ func writeCompare(dir string, runs []compareRun, by string, ref *compareRun) err
 		numeric = numeric && !math.IsNaN(r.byNum)
 	}
 	for q, cf := range compareFigures {
-		l := report.Line{Label: cf.key, Points: true}
+		l := report.Line{Label: cf.title, Points: true}
 		for k, r := range runs {
 			x := float64(k + 1)
 			if numeric {
@@ -284,6 +284,26 @@ func writeCompare(dir string, runs []compareRun, by string, ref *compareRun) err
 	}
 	if !numeric {
 		lp.XLabel = "run (in table order)"
+		for _, r := range runs {
+			name := r.by
+			if name == "" {
+				name = filepath.Base(r.dir)
+			}
+			lp.XCategories = append(lp.XCategories, name)
+		}
+	}
+	var missing []string
+	for q, cf := range compareFigures {
+		finite := false
+		for _, r := range runs {
+			finite = finite || !math.IsNaN(r.ratios[q]) && !math.IsInf(r.ratios[q], 0)
+		}
+		if !finite {
+			missing = append(missing, cf.title)
+		}
+	}
+	if len(missing) > 0 {
+		lp.Title += " (no ratio: " + strings.Join(missing, ", ") + ")"
 	}
 	img, err := lp.PNG()
 	if err != nil {

@@ -45,6 +45,9 @@ type LinePlot struct {
 	Markers      []Marker
 	// Width and Height in centimetres (0 means 16 x 10).
 	Width, Height float64
+	// XCategories, when set, names the points x = 1, 2, ... of a plot over categories (runs
+	// in table order): the x axis gets one labelled tick per category.
+	XCategories []string
 	// LegendLeft is kept for compatibility; the legend is always drawn outside the data area,
 	// to the right of it, so it never covers a curve.
 	LegendLeft bool
@@ -147,6 +150,14 @@ func (lp LinePlot) PNG() ([]byte, error) {
 	p.Y.Label.Text = axisLabel(lp.YLabel, lp.YUnit, ysc)
 	p.X.Tick.Marker = niceTicks{}
 	p.Y.Tick.Marker = niceTicks{}
+	if len(lp.XCategories) > 0 {
+		var ticks []plot.Tick
+		for k, c := range lp.XCategories {
+			ticks = append(ticks, plot.Tick{Value: float64(k + 1), Label: c})
+		}
+		p.X.Tick.Marker = plot.ConstantTicks(ticks)
+		p.X.Min, p.X.Max = 0.5, float64(len(lp.XCategories))+0.5
+	}
 	p.Add(plotter.NewGrid())
 	any := false
 	// Bands first, so that every curve is drawn over them.
