@@ -15,10 +15,11 @@ type Exit struct {
 }
 
 // Check verifies that the exit can be evaluated on grid g: a positive radius, the plane within
-// one grid spacing of the field's x extent, and rows of data inside the radius.
+// one grid spacing of the field's x extent, and a side of the axis that the field covers from
+// the axis to the radius.
 func (e Exit) Check(g piv.Grid) error {
 	if !(e.Radius > 0) || math.IsInf(e.Radius, 0) {
-		return fmt.Errorf("nozzle radius %g m must be positive", e.Radius)
+		return fmt.Errorf("nozzle radius %g m must be positive and finite", e.Radius)
 	}
 	if !isFinite(e.X) || !isFinite(e.Axis) {
 		return fmt.Errorf("exit plane x = %g m, axis y = %g m must be finite", e.X, e.Axis)
@@ -27,17 +28,38 @@ func (e Exit) Check(g piv.Grid) error {
 		return fmt.Errorf("exit plane x = %g m is outside the field (x from %g to %g m, at most one spacing %g m beyond it)",
 			e.X, g.X0, g.XMax(), g.DX)
 	}
-	rows := 0
-	for j := 0; j < g.NY; j++ {
-		if math.Abs(g.Y(j)-e.Axis) < e.Radius {
-			rows++
-		}
-	}
-	if rows == 0 {
-		return fmt.Errorf("no row of the field (y from %g to %g m) lies inside the nozzle radius %g m about y = %g m",
-			g.Y0, g.YMax(), e.Radius, e.Axis)
+	if up, down := e.covered(g); !up && !down {
+		return fmt.Errorf("the field (y from %g to %g m, cells %g m wide) does not cover the exit from the axis y = %g m to the nozzle radius %g m on either side",
+			g.Y0, g.YMax(), g.DY, e.Axis, e.Radius)
 	}
 	return nil
+}
+
+// covered reports on which sides of the axis the cells of the grid's rows (one spacing wide,
+// centred on the rows) reach out to the radius, starting at most one spacing from the axis
+// (the row nearest the axis then stands for the gap, see ExitProfile).
+func (e Exit) covered(g piv.Grid) (up, down bool) {
+	tol := 1e-9 * g.DY
+	lo, hi := g.Y0-g.DY/2, g.YMax()+g.DY/2
+	up = lo <= e.Axis+g.DY+tol && hi >= e.Axis+e.Radius-tol
+	down = hi >= e.Axis-g.DY-tol && lo <= e.Axis-e.Radius+tol
+	return up, down
+}
+
+// innerRows returns the rows nearest the axis whose cells reach into each side (-1 if none):
+// up is the lowest row with a cell above the axis, down the highest with a cell below it.
+func (e Exit) innerRows(g piv.Grid) (up, down int) {
+	up, down = -1, -1
+	for j := 0; j < g.NY; j++ {
+		r := g.Y(j) - e.Axis
+		if up < 0 && r+g.DY/2 > 1e-9*g.DY {
+			up = j
+		}
+		if r-g.DY/2 < -1e-9*g.DY {
+			down = j
+		}
+	}
+	return up, down
 }
 
 // ExitForces are the forces on the fluid at the nozzle exit for one frame.
@@ -86,14 +108,29 @@ func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*Exi
 	d := e.X - g.X(i)
 	ex := &ExitForces{Time: f.Time, Column: i, Carried: d}
 	axi := f.Geometry.Axisymmetric
-	var sideUp, sideDown bool
+	// Each side of the axis that the field covers out to the radius gives the whole exit on its
+	// own (axisymmetry, or the mirror symmetry of a slot); with both, the two are averaged. A
+	// side the field covers only in part is left out rather than mixed in. A row whose cell
+	// straddles the axis (a row on the axis, or rows offset from it) gives each side the part
+	// of its cell on that side.
+	// When the field stops short of the axis (by less than a spacing), the row nearest the
+	// axis is taken to hold down to it.
+	up, down := e.covered(g)
+	jUp, jDown := e.innerRows(g)
+	var side [2]struct{ p, m, q float64 }
 	for j := 0; j < g.NY; j++ {
 		r := g.Y(j) - e.Axis
 		if math.Abs(r) >= e.Radius+g.DY/2 {
 			continue
 		}
-		w := rowWeight(r, g.DY, e.Radius, axi)
-		if w == 0 {
+		wUp, wDown := 0.0, 0.0
+		if up {
+			wUp = rowWeight(r, g.DY, e.Radius, axi, j == jUp)
+		}
+		if down {
+			wDown = rowWeight(-r, g.DY, e.Radius, axi, j == jDown)
+		}
+		if wUp == 0 && wDown == 0 {
 			continue
 		}
 		k := g.Index(i, j)
@@ -113,22 +150,22 @@ func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*Exi
 			ex.Missing++
 			continue
 		}
-		if r > 1e-9*g.DY {
-			sideUp = true
-		} else if r < -1e-9*g.DY {
-			sideDown = true
-		} else {
-			sideUp, sideDown = true, true
+		for s, w := range [2]float64{wUp, wDown} {
+			side[s].p += w * (pe - pInf)
+			side[s].m += w * rho * ue * ue
+			side[s].q += w * ue
 		}
-		ex.P += w * (pe - pInf)
-		ex.M += w * rho * ue * ue
-		ex.Q += w * ue
 	}
-	sides := 1.0
-	if sideUp && sideDown {
-		sides = 2
+	sides := 0.0
+	for s, ok := range [2]bool{up, down} {
+		if ok {
+			ex.P += side[s].p
+			ex.M += side[s].m
+			ex.Q += side[s].q
+			sides++
+		}
 	}
-	factor := 2 / sides // planar: the other half of the slot mirrors the measured one
+	factor := 2 / sides // planar: the slot's two halves, each the mirror of a measured one
 	if axi {
 		factor = 2 * math.Pi / sides
 	}
@@ -142,25 +179,22 @@ func ExitProfile(f *piv.Field, p, gx []float64, e Exit, rho, pInf float64) (*Exi
 	return ex, nil
 }
 
-// rowWeight returns ∫ over the row's cell [r − dy/2, r + dy/2] ∩ (−R, R) of |r| dr
-// (axisymmetric) or of dr (planar), counting only the half-line on the row's side of the axis
-// so that each half of a full section integrates the whole exit.
-func rowWeight(r, dy, R float64, axi bool) float64 {
-	a, b := r-dy/2, r+dy/2
-	if r >= 0 {
-		a = math.Max(a, 0)
-		b = math.Min(b, R)
-	} else {
-		a = math.Max(a, -R)
-		b = math.Min(b, 0)
+// rowWeight returns ∫ over [a − dy/2, a + dy/2] ∩ [0, R) of r dr (axisymmetric) or of dr
+// (planar): the part of the cell of a row at signed distance a from the axis that lies on the
+// side of positive a, within the radius. For the row nearest the axis (inner) the cell starts
+// at the axis.
+func rowWeight(a, dy, R float64, axi, inner bool) float64 {
+	lo, hi := math.Max(a-dy/2, 0), math.Min(a+dy/2, R)
+	if inner && hi > 0 {
+		lo = 0
 	}
-	if b <= a {
+	if hi <= lo {
 		return 0
 	}
 	if axi {
-		return absIntegral(a, b)
+		return absIntegral(lo, hi)
 	}
-	return b - a
+	return hi - lo
 }
 
 // ExitFlux returns the volume flux through the exit of field f: 2π∫u r dr (planar ∫u dy) with
