@@ -59,11 +59,11 @@ func sameFile(t *testing.T, a, b string) {
 // writes them); the CSV maps read back as fields on the frames' grid; --resume rewrites only
 // a map that is missing.
 func TestJetMaps(t *testing.T) {
-	index, bases := shortDemo(t, 12)
+	index, bases := shortDemo(t, 6)
 	dir := t.TempDir()
 	jet := filepath.Join(dir, "jet")
 	jetArgs := []string{"jet", index, "--axisymmetric", "--axis", "0", "--exit", "0", "--diameter", "0.025", "--lip", "0.01375",
-		"--rest", "0", "--pulse", "0.05,0.5", "--samples", "0", "-q", "--maps", "vorticity,lambda2,pressure", "--map-format", "csv,vtk,png", "--out", jet}
+		"--rest", "0", "--pulse", "0.05,0.3", "--samples", "0", "-q", "--maps", "vorticity,lambda2,pressure", "--map-format", "csv,vtk,png", "--out", jet}
 	code, stdout, stderr := runCapture(jetArgs...)
 	if code != 0 {
 		t.Fatalf("jet exit %d: %s", code, stderr)
@@ -111,13 +111,13 @@ func TestJetMaps(t *testing.T) {
 	}
 
 	// A lost map is written again by --resume, the others are reused.
-	lost := filepath.Join(maps, bases[5]+"_vorticity.png")
+	lost := filepath.Join(maps, bases[3]+"_vorticity.png")
 	before, _ := os.ReadFile(lost)
 	if err := os.Remove(lost); err != nil {
 		t.Fatal(err)
 	}
 	code, stdout, stderr = runCapture(append(jetArgs, "--resume")...)
-	if code != 0 || !strings.Contains(stdout, "11 reused") {
+	if code != 0 || !strings.Contains(stdout, "5 reused") {
 		t.Fatalf("resume: exit %d, %s\n%s", code, stderr, stdout)
 	}
 	after, err := os.ReadFile(lost)
