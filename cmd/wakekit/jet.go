@@ -108,7 +108,7 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.Float64Var(&s.noise, "noise", -1, "velocity noise per component [m/s] for the uncertainties (default: estimated from the data)")
 	fs.IntVar(&s.samples, "samples", 16, "Monte-Carlo replicas for the uncertainties (0: none)")
 	fs.UintVar(&seed, "seed", 1, "seed of the Monte-Carlo noise")
-	fs.IntVar(&s.smooth, "smooth", circulation.BudgetSmooth, "half-width in frames of the smoothing differentiator for dI/dt")
+	fs.IntVar(&s.smooth, "smooth", circulation.BudgetSmooth, "half-width in frames of the smoothing differentiator for dI/dt (2 or more)")
 	fs.BoolVar(&s.noPressure, "no-pressure", false, "skip the pressure reconstruction (route (a) is then not computed)")
 	fs.StringVar(&rest, "rest", "", "time [s] at which the fluid was at rest, before the first frame (improves the first frames' acceleration)")
 	fs.StringVar(&s.label, "label", "", "label of this run, recorded in the summary (for compare)")
@@ -229,8 +229,9 @@ func (s *jetSettings) checkValues(lipGiven bool) error {
 		return fmt.Errorf("--noise %g: give the velocity noise per component in m/s, zero or positive (e.g. 0.002), or leave --noise out to estimate it from the data", s.noise)
 	case s.samples < 0 || s.samples > 1000:
 		return fmt.Errorf("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", s.samples)
-	case s.smooth < 1:
-		return fmt.Errorf("--smooth %d: give the half-width of the dI/dt differentiator in frames, 1 or more (default %d)", s.smooth, circulation.BudgetSmooth)
+	case s.smooth < 2:
+		// The differentiator fits a quadratic to 2*smooth+1 frames and needs at least four.
+		return fmt.Errorf("--smooth %d: give the half-width of the dI/dt differentiator in frames, 2 or more (default %d): it fits a quadratic over 2*smooth+1 frames and needs at least four", s.smooth, circulation.BudgetSmooth)
 	case !(s.threshold > 0 && s.threshold < 1):
 		return fmt.Errorf("--threshold %g: give the pulse detection threshold as a share of the peak exit velocity, strictly between 0 and 1 (default %g)", s.threshold, circulation.PulseThreshold)
 	}

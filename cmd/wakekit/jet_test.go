@@ -199,6 +199,7 @@ func TestJetNonsenseNumbers(t *testing.T) {
 		{append(jet, "--samples", "-1"), "--samples -1: give"},
 		{append(jet, "--samples", "1001"), "--samples 1001: give"},
 		{append(jet, "--smooth", "0"), "--smooth 0: give"},
+		{append(jet, "--smooth", "1"), "--smooth 1: give"},
 		{append(jet, "--smooth", "-3"), "--smooth -3: give"},
 		{append(jet, "--threshold", "0"), "--threshold 0: give"},
 		{append(jet, "--threshold", "1"), "--threshold 1: give"},
