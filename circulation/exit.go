@@ -127,7 +127,9 @@ func centreValue(val func(j int) float64, j0 int, r func(int) float64, dy float6
 
 // ExitMeasure computes the exit sample of one frame. Each node of the station column stands for
 // the radial interval of half a spacing on each side (clipped at the axis and at the nozzle
-// radius), weighted by 2 pi r in the axisymmetric case. The axial derivative of v uses the
+// radius; the node nearest the axis reaches down to it when the view starts short of the axis),
+// weighted by 2 pi r in the axisymmetric case. A view that does not reach the nozzle radius, or
+// starts more than a spacing from the axis, is an error. The axial derivative of v uses the
 // second-order central difference, or the second-order one-sided difference at the first
 // column of the view.
 func ExitMeasure(f *piv.Field, c ExitConfig) (ExitSample, error) {
@@ -160,6 +162,22 @@ func ExitMeasure(f *piv.Field, c ExitConfig) (ExitSample, error) {
 			factor = 2
 		}
 	}
+	// The rows' cells must reach the nozzle radius, and start at most one spacing from the axis
+	// (the row nearest the axis then stands for the gap); a view that covers the exit only in
+	// part would give too small a flux without a word.
+	tol := 1e-9 * g.DY
+	if top := r(g.NY-1) + g.DY/2; top < R-tol {
+		return ExitSample{}, fmt.Errorf("%s: the view ends at %g m from the axis, inside the nozzle radius %g m: the exit is not covered", f.Name(), top, R)
+	}
+	if lo == 0 && r(0)-g.DY/2 > g.DY+tol {
+		return ExitSample{}, fmt.Errorf("%s: the view starts %g m from the axis, more than one spacing (%g m): the exit near the axis is not covered", f.Name(), r(0)-g.DY/2, g.DY)
+	}
+	inner := -1 // the row nearest the axis whose cell reaches above it
+	for j := 0; j < g.NY && inner < 0; j++ {
+		if r(j)+g.DY/2 > tol {
+			inner = j
+		}
+	}
 	// weight returns int over [a, b] of the area element (2 pi r dr or dy).
 	weight := func(a, b float64) float64 {
 		if b <= a {
@@ -176,6 +194,9 @@ func ExitMeasure(f *piv.Field, c ExitConfig) (ExitSample, error) {
 		rj := r(j)
 		a, b := rj-g.DY/2, rj+g.DY/2
 		if axi && a < 0 {
+			a = 0
+		}
+		if j == inner && lo == 0 && a > 0 {
 			a = 0
 		}
 		k := g.Index(i, j)

@@ -106,3 +106,40 @@ func TestExitMissingAndErrors(t *testing.T) {
 		}
 	}
 }
+
+// A plug exit velocity U gives U0 = U and F_m = rho A U^2 exactly wherever the rows sit: on the
+// axis, cell-centred, or starting short of the axis (the row nearest the axis then stands for
+// the gap); a view that does not reach the nozzle radius or starts more than a spacing from the
+// axis is refused rather than integrated in part.
+func TestExitRowLayouts(t *testing.T) {
+	const U, R, rho = 0.03, 0.0125, 1000.0
+	h := R / 8
+	cfg := ExitConfig{X: 0, Diameter: 2 * R, Rho: rho, Nu: 1e-6}
+	plug := func(y0 float64, ny int, axi bool) *piv.Field {
+		g := piv.Grid{NX: 5, NY: ny, X0: 0, Y0: y0, DX: h, DY: h}
+		f := piv.NewField(g)
+		f.Geometry = piv.Geometry{Axisymmetric: axi}
+		for k := range f.U {
+			f.Set(k, U, 0)
+		}
+		return f
+	}
+	for _, axi := range []bool{true, false} {
+		for _, y0 := range []float64{0, h / 2, 0.8 * h, -0.3 * h, -3 * R} {
+			ny := int(math.Round((2*R-y0)/h)) + 1
+			s, err := ExitMeasure(plug(y0, ny, axi), cfg)
+			if err != nil {
+				t.Errorf("axisymmetric %v, rows from %g: %v", axi, y0, err)
+				continue
+			}
+			if math.Abs(s.U0/U-1) > 1e-12 || math.Abs(s.MomentumFlux/(rho*ExitArea(2*R, axi)*U*U)-1) > 1e-12 {
+				t.Errorf("axisymmetric %v, rows from %g: U0 %.15g, F_m %.15g; want %g, %g", axi, y0, s.U0, s.MomentumFlux, U, rho*ExitArea(2*R, axi)*U*U)
+			}
+		}
+		for _, c := range []struct{ y0, ny float64 }{{h / 2, 6}, {2 * h, 30}} {
+			if _, err := ExitMeasure(plug(c.y0, int(c.ny), axi), cfg); err == nil {
+				t.Errorf("axisymmetric %v: a view of %g rows from %g accepted", axi, c.ny, c.y0)
+			}
+		}
+	}
+}
