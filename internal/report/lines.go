@@ -48,9 +48,6 @@ type LinePlot struct {
 	// XCategories, when set, names the points x = 1, 2, ... of a plot over categories (runs
 	// in table order): the x axis gets one labelled tick per category.
 	XCategories []string
-	// LegendLeft is kept for compatibility; the legend is always drawn outside the data area,
-	// to the right of it, so it never covers a curve.
-	LegendLeft bool
 }
 
 // lineColours are distinguishable on screen and in greyscale print (dark to light).
