@@ -243,8 +243,8 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 			if err != nil {
 				return err
 			}
-			if !(*radius > 0) {
-				return usagef("--exit needs --nozzle-radius (a positive radius or slot half-width)")
+			if !(*radius > 0) || math.IsInf(*radius, 0) {
+				return usagef("--exit needs --nozzle-radius R, a positive and finite radius (or slot half-width) in m; got %g", *radius)
 			}
 			fo.Exit = &pressure.Exit{X: v[0], Radius: *radius, Axis: rdf.axis}
 			set.Exit = pressureJSONFloats([]float64{v[0], *radius, rdf.axis})

@@ -156,6 +156,9 @@ func TestPressureBadInput(t *testing.T) {
 		{"missing Dirichlet edge", append([]string{"--dt", "0.002", "--reference-edges", "top"}, noTop...), 1, "top edge"},
 		{"nozzle outside", append([]string{"--dt", "0.002", "--nozzle", "5,0.01,0.02"}, three...), 1, "outside the field"},
 		{"exit outside", append([]string{"--dt", "0.002", "--exit", "5", "--nozzle-radius", "0.01"}, three...), 1, "outside the field"},
+		{"nozzle radius beyond the field", append([]string{"--dt", "0.002", "--exit", "0.05", "--nozzle-radius", "5"}, three...), 1, "does not cover the exit"},
+		{"infinite nozzle radius", append([]string{"--dt", "0.002", "--exit", "0.05", "--nozzle-radius", "Inf"}, three...), 2, "--nozzle-radius R, a positive and finite radius"},
+		{"reference point outside", append([]string{"--dt", "0.002", "--reference-point", "5,5"}, three...), 1, "reference point (5, 5) m is outside the field"},
 		{"unknown solver", append([]string{"--dt", "0.002", "--solver", "magic"}, three...), 2, "solver"},
 		{"source without exit", append([]string{"--dt", "0.002", "--reference", "source", "--reference-edges", "top"}, three...), 2, "exit"},
 	} {
