@@ -63,7 +63,8 @@ Examples:
   wakekit jet run07/frames.csv --axisymmetric --axis 0 --exit 0 --diameter 0.025 --lip 0.01375 --out run07-jet
   wakekit jet 'slot/*.csv' --slot --axis 0.04 --exit 0.002 --diameter 0.01 --noise 0.002 --label "slot B" --param s_over_D=1.5
   wakekit jet frames/ --axisymmetric --exit 0 --diameter 0.02 --pulse 0.1,1.9 --no-pressure -q
-  wakekit jet tank/run3/frames.csv --axisymmetric --exit 0.012 --diameter 0.025 --lip 0.0135 --nozzle 0.012,0.0125,0.0135`,
+  wakekit jet tank/run3/frames.csv --axisymmetric --exit 0.012 --diameter 0.025 --lip 0.0135 --nozzle 0.012,0.0125,0.0135
+  wakekit jet run07/frames.csv --axisymmetric --exit 0 --diameter 0.025 --maps vorticity,lambda2,pressure --map-format png,csv --out run07-jet`,
 		setup: setupJet,
 	})
 }
@@ -93,6 +94,12 @@ type jetSettings struct {
 func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 	rf := addReadFlags(fs)
 	run := addRunFlags(fs)
+	if f := fs.Lookup("shard"); f != nil {
+		f.Usage = "not for jet: a pulse and its budget span the whole series (split per-frame maps with derive or pressure --shard)"
+	}
+	if f := fs.Lookup("resume"); f != nil {
+		f.Usage = "continue writing the per-frame maps of an interrupted run in the same --out folder (maps done with the same inputs and settings are kept)"
+	}
 	s := &jetSettings{}
 	var params []string
 	var rest string
