@@ -109,13 +109,25 @@ func setupCirculation(fs *pflag.FlagSet) func(e *env, args []string) error {
 		}
 		st.line.NaNOnBad = *nanOnBad
 		st.area = circulation.AreaOptions{MaxMissingShare: st.line.MaxBadShare, NaNOnBad: *nanOnBad}
-		if *spacing < 0 || math.IsNaN(*spacing) {
-			return usagef("--spacing must be positive")
+		if *spacing < 0 || math.IsNaN(*spacing) || math.IsInf(*spacing, 0) {
+			return usagef("--spacing %g: give the distance between contour points as a positive number (0: a quarter of the grid spacing)", *spacing)
+		}
+		// finiteFlag refuses NaN and infinite numbers in a contour or profile flag.
+		finiteFlag := func(flag, val string, v []float64) error {
+			for _, x := range v {
+				if math.IsNaN(x) || math.IsInf(x, 0) {
+					return usagef("%s %s: %g is not a finite number", flag, val, x)
+				}
+			}
+			return nil
 		}
 		st.spacing = *spacing * scale
 		for _, c := range *circles {
 			v, err := parseFloats("--circle", c, 3, 3)
 			if err != nil {
+				return err
+			}
+			if err := finiteFlag("--circle", c, v); err != nil {
 				return err
 			}
 			if !(v[2] > 0) {
@@ -126,6 +138,9 @@ func setupCirculation(fs *pflag.FlagSet) func(e *env, args []string) error {
 		for _, r := range *rects {
 			v, err := parseFloats("--rect", r, 4, 4)
 			if err != nil {
+				return err
+			}
+			if err := finiteFlag("--rect", r, v); err != nil {
 				return err
 			}
 			if !(v[2] > v[0]) || !(v[3] > v[1]) {
@@ -154,11 +169,14 @@ func setupCirculation(fs *pflag.FlagSet) func(e *env, args []string) error {
 			if err != nil {
 				return err
 			}
-			if !(*rmax > 0) {
-				return fmt.Errorf("--profile needs --rmax greater than zero (got %g)", *rmax)
+			if err := finiteFlag("--profile", *profile, v); err != nil {
+				return err
 			}
-			if *dr < 0 {
-				return usagef("--dr must be positive")
+			if !(*rmax > 0) || math.IsInf(*rmax, 0) {
+				return fmt.Errorf("--profile needs --rmax greater than zero and finite (got %g)", *rmax)
+			}
+			if *dr < 0 || math.IsNaN(*dr) || math.IsInf(*dr, 0) {
+				return usagef("--dr %g: give the radial step as a positive number (0: half the grid spacing)", *dr)
 			}
 			st.profile, st.px, st.py, st.rmax, st.dr = true, v[0]*scale, v[1]*scale, *rmax*scale, *dr*scale
 		}

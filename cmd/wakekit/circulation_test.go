@@ -145,6 +145,20 @@ func TestCirculationVorticesBadInput(t *testing.T) {
 	if code, _, _ := runCapture("circulation", files[0]); code != 2 {
 		t.Errorf("no contour: status %d, want 2", code)
 	}
+	// Non-finite numbers in contour and step flags are usage errors naming the flag.
+	for _, args := range [][]string{
+		{"--circle", "Inf,0,0.002"}, {"--rect", "0,0,NaN,0.001"}, {"--profile", "NaN,0", "--rmax", "0.002"},
+		{"--profile", "0,0", "--rmax", "0.002", "--dr", "Inf"}, {"--circle", "0,0,0.002", "--spacing", "Inf"},
+	} {
+		out := filepath.Join(t.TempDir(), "out")
+		code, _, stderr := runCapture(append(append([]string{"circulation", "-q", "-o", out}, args...), files[0])...)
+		if code != 2 || !strings.Contains(stderr, args[len(args)-2]) {
+			t.Errorf("%v: status %d, stderr %q; want 2 naming %s", args, code, stderr, args[len(args)-2])
+		}
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			t.Errorf("%v: output folder made", args)
+		}
+	}
 	// A bad frame late in a series stops the run: no table, and none of the maps drawn for the
 	// frames before it, is left, neither in a new folder nor in one that existed.
 	series := writeFrames(t, analytic.LambOseen{Gamma: 1e-3, CoreRadius: 0.005, Uc: 0.01}, piv.Grid{NX: 41, NY: 41, X0: -0.01, Y0: -0.01, DX: h, DY: h}, 4, 0.05)
