@@ -146,14 +146,20 @@ func TestCirculationVorticesBadInput(t *testing.T) {
 		t.Errorf("no contour: status %d, want 2", code)
 	}
 	// Non-finite numbers in contour and step flags are usage errors naming the flag.
-	for _, args := range [][]string{
-		{"--circle", "Inf,0,0.002"}, {"--rect", "0,0,NaN,0.001"}, {"--profile", "NaN,0", "--rmax", "0.002"},
-		{"--profile", "0,0", "--rmax", "0.002", "--dr", "Inf"}, {"--circle", "0,0,0.002", "--spacing", "Inf"},
+	for _, c := range []struct {
+		flag string
+		args []string
+	}{
+		{"--circle", []string{"--circle", "Inf,0,0.002"}}, {"--rect", []string{"--rect", "0,0,NaN,0.001"}},
+		{"--profile", []string{"--profile", "NaN,0", "--rmax", "0.002"}},
+		{"--dr", []string{"--profile", "0,0", "--rmax", "0.002", "--dr", "Inf"}},
+		{"--spacing", []string{"--circle", "0,0,0.002", "--spacing", "Inf"}},
 	} {
+		args := c.args
 		out := filepath.Join(t.TempDir(), "out")
 		code, _, stderr := runCapture(append(append([]string{"circulation", "-q", "-o", out}, args...), files[0])...)
-		if code != 2 || !strings.Contains(stderr, args[len(args)-2]) {
-			t.Errorf("%v: status %d, stderr %q; want 2 naming %s", args, code, stderr, args[len(args)-2])
+		if code != 2 || !strings.Contains(stderr, c.flag) {
+			t.Errorf("%v: status %d, stderr %q; want 2 naming %s", args, code, stderr, c.flag)
 		}
 		if _, err := os.Stat(out); !os.IsNotExist(err) {
 			t.Errorf("%v: output folder made", args)
