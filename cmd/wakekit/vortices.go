@@ -31,13 +31,18 @@ split by the sense of rotation:
   lambda2  lambda2 < -threshold (Jeong & Hussain 1995)
   swirl    swirling strength > threshold (Zhou et al. 1999)
 
-For each core: vorticity-weighted centroid, peak vorticity, circulation (area integral),
-area, equivalent radius, mean vorticity, and the core radius of a Lamb–Oseen fit. Cores are
+For each core: vorticity-weighted centroid, peak vorticity, circulation (area integral over
+the core's nodes), area, equivalent radius, mean vorticity, and the core radius and
+circulation of a Lamb–Oseen fit. The criterion's region holds only the inner part of a
+vortex (about half the circulation of a Lamb–Oseen vortex lies outside its Gamma2 core), so
+the area integral is a lower bound of the vortex's circulation and the fit's a closer
+estimate for a compact vortex. Cores are
 then tracked frame to frame (constant-velocity prediction, same sense of rotation, gated
 distance); each track has a birth and a death frame and a convection velocity smoothed by a
 local least-squares line. With --axisymmetric, cores above the axis are read as vortex rings
 and their circulation, ring radius, impulse radius, impulse and kinetic energy are written
-with the speed from the track beside Saffman's (1970) viscous-core prediction.
+with the speed from the track beside Saffman's (1970) viscous-core prediction, from the core
+region's circulation and from the fit's (rings.csv).
 
 For planar data, the strongest cores of each sign are read as a vortex pair: circulations,
 centroids, separation b, impulse per unit depth rho int (y w, -x w) dA and the point-vortex
@@ -286,7 +291,7 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 	}
 	ncores := 0
 	err = piv.WriteFileAtomic(filepath.Join(dir, "cores.csv"), func(w io.Writer) error {
-		if _, err := fmt.Fprintln(w, "frame,time [s],core,track,sign,x [m],y [m],peak_x [m],peak_y [m],peak_omega [1/s],gamma [m^2/s],area [m^2],eq_radius [m],core_radius [m],mean_omega [1/s],missing_share"); err != nil {
+		if _, err := fmt.Fprintln(w, "frame,time [s],core,track,sign,x [m],y [m],peak_x [m],peak_y [m],peak_omega [1/s],gamma [m^2/s],area [m^2],eq_radius [m],core_radius [m],fit_gamma [m^2/s],mean_omega [1/s],missing_share"); err != nil {
 			return err
 		}
 		for k, vf := range frames {
@@ -296,9 +301,9 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 				if r, ok := refs[[2]int{k, c}]; ok {
 					id = tracks[r.track].ID
 				}
-				if _, err := fmt.Fprintf(w, "%d,%s,%d,%d,%d,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), c+1, id, co.Sign,
+				if _, err := fmt.Fprintf(w, "%d,%s,%d,%d,%d,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), c+1, id, co.Sign,
 					cnum(co.X), cnum(co.Y), cnum(co.PeakX), cnum(co.PeakY), cnum(co.PeakOmega), cnum(co.Gamma), cnum(co.Area),
-					cnum(co.EqRadius), cnum(co.CoreRadius), cnum(co.MeanOmega), cnum(co.MissingShare)); err != nil {
+					cnum(co.EqRadius), cnum(co.CoreRadius), cnum(fitGamma(co)), cnum(co.MeanOmega), cnum(co.MissingShare)); err != nil {
 					return err
 				}
 			}
@@ -383,7 +388,7 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 	}
 	if axisym {
 		err = piv.WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {
-			if _, err := fmt.Fprintln(w, "frame,time [s],core,track,gamma [m^2/s],x [m],ring_radius [m],impulse_radius [m],impulse [N s],energy [J],core_radius [m],speed_track [m/s],speed_saffman [m/s]"); err != nil {
+			if _, err := fmt.Fprintln(w, "frame,time [s],core,track,gamma [m^2/s],x [m],ring_radius [m],impulse_radius [m],impulse [N s],energy [J],core_radius [m],fit_gamma [m^2/s],speed_track [m/s],speed_saffman [m/s],speed_saffman_fit [m/s]"); err != nil {
 				return err
 			}
 			for k, vf := range frames {
@@ -396,10 +401,11 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 						id = tracks[r.track].ID
 						speed = tracks[r.track].Points[r.point].U
 					}
-					a := vf.cores[c].CoreRadius
-					if _, err := fmt.Fprintf(w, "%d,%s,%d,%d,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), c+1, id,
+					a, gf := vf.cores[c].CoreRadius, fitGamma(vf.cores[c])
+					if _, err := fmt.Fprintf(w, "%d,%s,%d,%d,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", k, cnum(vf.time), c+1, id,
 						cnum(ring.Gamma), cnum(ring.X), cnum(ring.R), cnum(ring.RI), cnum(ring.Impulse), cnum(ring.Energy),
-						cnum(a), cnum(speed), cnum(circulation.SaffmanSpeed(ring.Gamma, ring.R, a))); err != nil {
+						cnum(a), cnum(gf), cnum(speed), cnum(circulation.SaffmanSpeed(ring.Gamma, ring.R, a)),
+						cnum(circulation.SaffmanSpeed(gf, ring.R, a))); err != nil {
 						return err
 					}
 				}
@@ -512,4 +518,12 @@ func drawVortexMap(path string, k int, vf vortexFrame, active []circulation.Trac
 	wpx := 960
 	hpx := min(1200, max(360, int(float64(wpx)*float64(g.NY)/float64(g.NX))+120))
 	return m.WritePNG(path, wpx, hpx)
+}
+
+// fitGamma returns the circulation of a core's Lamb–Oseen fit, NaN without a fit.
+func fitGamma(c circulation.Core) float64 {
+	if c.Fit == nil {
+		return math.NaN()
+	}
+	return c.Fit.Gamma
 }
