@@ -445,7 +445,7 @@ func refsLast(tracks []circulation.Track) []circulation.TrackPoint {
 
 // printRings prints, for every track with ring properties, the ring at its last frame.
 func printRings(w io.Writer, frames []vortexFrame, tracks []circulation.Track, last []circulation.TrackPoint) {
-	tw := newTextTable(w, "ring (track)", "frame", "Γ [m²/s]", "R [m]", "impulse [N s]", "speed [m/s]", "Saffman [m/s]")
+	tw := newTextTable(w, "ring (track)", "frame", "Γ core [m²/s]", "Γ fit [m²/s]", "R [m]", "impulse [N s]", "speed [m/s]", "Saffman core, fit [m/s]")
 	n := 0
 	for a, tk := range tracks {
 		p := last[a]
@@ -454,9 +454,10 @@ func printRings(w io.Writer, frames []vortexFrame, tracks []circulation.Track, l
 			continue
 		}
 		n++
-		tw.row(strconv.Itoa(tk.ID), strconv.Itoa(p.Frame), fmt.Sprintf("%.4g", ring.Gamma), fmt.Sprintf("%.4g", ring.R),
-			fmt.Sprintf("%.4g", ring.Impulse), fmt.Sprintf("%.4g", p.U),
-			fmt.Sprintf("%.4g", circulation.SaffmanSpeed(ring.Gamma, ring.R, frames[p.Frame].cores[p.Core].CoreRadius)))
+		co := frames[p.Frame].cores[p.Core]
+		tw.row(strconv.Itoa(tk.ID), strconv.Itoa(p.Frame), fmt.Sprintf("%.4g", ring.Gamma), fmt.Sprintf("%.4g", fitGamma(co)),
+			fmt.Sprintf("%.4g", ring.R), fmt.Sprintf("%.4g", ring.Impulse), fmt.Sprintf("%.4g", p.U),
+			fmt.Sprintf("%.4g, %.4g", circulation.SaffmanSpeed(ring.Gamma, ring.R, co.CoreRadius), circulation.SaffmanSpeed(fitGamma(co), ring.R, co.CoreRadius)))
 	}
 	if n > 0 {
 		fmt.Fprintln(w)
