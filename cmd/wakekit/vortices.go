@@ -212,7 +212,7 @@ func runVortices(e *env, s *piv.Series, popt pipeline.Options, st vortexSettings
 			}
 		}
 		all := circulation.AllNodes(f.Grid)
-		if vf.window, err = circulation.Area(omega, all, circulation.AreaOptions{MaxMissingShare: 1}); err != nil {
+		if vf.window, err = circulation.Area(omega, windowRegion(f), circulation.AreaOptions{MaxMissingShare: 1}); err != nil {
 			return vortexFrame{}, fmt.Errorf("%s: %v", f.Name(), err)
 		}
 		if vf.impulse, err = circulation.Impulse(omega, f.Grid, f.Geometry, st.rho, all); err != nil {
@@ -527,4 +527,27 @@ func fitGamma(c circulation.Core) float64 {
 		return math.NaN()
 	}
 	return c.Fit.Gamma
+}
+
+// windowRegion is the part of the field of view whose circulation frames.csv reports: all of
+// it for planar data; for a meridional plane the half above the axis (the ring's section), as
+// the half below is its mirror image with the opposite sign and would cancel it. Rows whose
+// cells straddle the axis count with the share of the cell above it.
+func windowRegion(f *piv.Field) circulation.Region {
+	g := f.Grid
+	all := circulation.AllNodes(g)
+	if !f.Geometry.Axisymmetric || g.Y0-g.DY/2 >= f.Geometry.AxisY {
+		return all
+	}
+	var r circulation.Region
+	r.Grid = g
+	for k := range all.K {
+		_, j := g.IJ(k)
+		w := math.Min(1, (g.Y(j)-f.Geometry.AxisY+g.DY/2)/g.DY)
+		if w > 0 {
+			r.K = append(r.K, k)
+			r.W = append(r.W, w)
+		}
+	}
+	return r
 }
