@@ -47,7 +47,8 @@ region's circulation and from the fit's (rings.csv).
 For planar data, the strongest cores of each sign are read as a vortex pair: circulations,
 centroids, separation b, impulse per unit depth rho int (y w, -x w) dA and the point-vortex
 pair speed Gamma/(2 pi b). Every frame also gets the circulation and impulse of the whole
-field of view (per unit depth for planar data).
+field of view (per unit depth for planar data; with --axisymmetric, of the half above the
+axis when the view shows both).
 
 Writes cores.csv, tracks.csv, track_summary.csv, frames.csv and rings.csv (--axisymmetric)
 or pairs.csv (planar) in the output folder; with --format png also maps/vorticity_NNNN.png
