@@ -76,7 +76,7 @@ func setupCompare(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return usagef("--by KEY is required (a --param key recorded by jet, or label)")
 		}
 		if pulse < 1 {
-			return fmt.Errorf("--pulse %d: give the number of the pulse to compare, 1 or more", pulse)
+			return usagef("--pulse %d: give the number of the pulse to compare, 1 or more", pulse)
 		}
 		dirs := append([]string(nil), args...)
 		if ref != "" {

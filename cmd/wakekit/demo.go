@@ -41,10 +41,10 @@ func setupDemo(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return usagef("demo takes no files (got %q)", args[0])
 		}
 		if *samples < 0 || *samples > 1000 {
-			return fmt.Errorf("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", *samples)
+			return usagef("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", *samples)
 		}
 		if run.workers < 0 {
-			return fmt.Errorf("--workers %d: give the number of frames to process at once (0: all cores)", run.workers)
+			return usagef("--workers %d: give the number of frames to process at once (0: all cores)", run.workers)
 		}
 		dir := run.out
 		if err := os.MkdirAll(dir, 0o755); err != nil {

@@ -108,8 +108,8 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 	fs.Float64Var(&s.exit.Diameter, "diameter", 0, "nozzle inner diameter (slot width) D [m]")
 	fs.Float64Var(&s.exit.LipOuter, "lip", 0, "outer radius of the nozzle lip [m] (default D/2)")
 	fs.BoolVar(&s.slot, "slot", false, "planar slot jet about y = --axis (per unit depth)")
-	fs.Float64Var(&s.exit.Rho, "rho", 1000, "fluid density [kg/m^3]")
-	fs.Float64Var(&s.exit.Nu, "nu", 1e-6, "kinematic viscosity [m^2/s]")
+	fs.Float64Var(&s.exit.Rho, "rho", pressure.Water20.Rho, "fluid density [kg/m^3] (default: water at 20 C)")
+	fs.Float64Var(&s.exit.Nu, "nu", pressure.Water20.Nu, "kinematic viscosity [m^2/s] (default: water at 20 C)")
 	fs.StringVar(&s.pulse, "pulse", "", "pulse start and end T0,T1 [s] (default: detected)")
 	fs.Float64Var(&s.threshold, "threshold", circulation.PulseThreshold, "pulse detection threshold as a share of the peak exit velocity")
 	fs.Float64Var(&s.noise, "noise", -1, "velocity noise per component [m/s] for the uncertainties (default: estimated from the data)")
@@ -143,7 +143,7 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return err
 		}
 		if run.workers < 0 {
-			return fmt.Errorf("--workers %d: give the number of frames to process at once (0: all cores)", run.workers)
+			return usagef("--workers %d: give the number of frames to process at once (0: all cores)", run.workers)
 		}
 		if run.shard != "" {
 			return usagef("--shard: jet analyses the whole series at once (a pulse and its budget span many frames), so it cannot be split into shares; split per-frame maps with \"wakekit derive --shard\" or \"wakekit pressure --shard\" instead")
@@ -155,7 +155,7 @@ func setupJet(fs *pflag.FlagSet) func(e *env, args []string) error {
 				return usagef("--rest %q is not a time in seconds", rest)
 			}
 			if math.IsNaN(t) || math.IsInf(t, 0) {
-				return fmt.Errorf("--rest %s: give the finite time in seconds at which the fluid was at rest, e.g. 0", rest)
+				return usagef("--rest %s: give the finite time in seconds at which the fluid was at rest, e.g. 0", rest)
 			}
 			s.restTime = t
 		}
@@ -223,24 +223,24 @@ func (s *jetSettings) checkValues(lipGiven bool) error {
 	c := s.exit
 	switch {
 	case !finite(c.Diameter) || c.Diameter <= 0:
-		return fmt.Errorf("--diameter %g: give the nozzle inner diameter (slot width) in m, a positive number, e.g. 0.025", c.Diameter)
+		return usagef("--diameter %g: give the nozzle inner diameter (slot width) in m, a positive number, e.g. 0.025", c.Diameter)
 	case !finite(c.X):
-		return fmt.Errorf("--exit %g: give the x of the nozzle exit plane in m, a finite number, e.g. 0", c.X)
+		return usagef("--exit %g: give the x of the nozzle exit plane in m, a finite number, e.g. 0", c.X)
 	case !finite(c.Rho) || c.Rho <= 0:
-		return fmt.Errorf("--rho %g: give the fluid density in kg/m^3, a positive number, e.g. 998.2 for water at 20 C", c.Rho)
+		return usagef("--rho %g: give the fluid density in kg/m^3, a positive number, e.g. 998.2 for water at 20 C", c.Rho)
 	case !finite(c.Nu) || c.Nu <= 0:
-		return fmt.Errorf("--nu %g: give the kinematic viscosity in m^2/s, a positive number, e.g. 1.004e-6 for water at 20 C", c.Nu)
+		return usagef("--nu %g: give the kinematic viscosity in m^2/s, a positive number, e.g. 1.004e-6 for water at 20 C", c.Nu)
 	case lipGiven && (!finite(c.LipOuter) || c.LipOuter < c.Diameter/2):
-		return fmt.Errorf("--lip %g: give the outer radius of the nozzle lip in m, at least the inner radius D/2 = %g m (or leave --lip out for a knife edge)", c.LipOuter, c.Diameter/2)
+		return usagef("--lip %g: give the outer radius of the nozzle lip in m, at least the inner radius D/2 = %g m (or leave --lip out for a knife edge)", c.LipOuter, c.Diameter/2)
 	case math.IsNaN(s.noise) || math.IsInf(s.noise, 0) || (s.noise < 0 && s.noise != -1):
-		return fmt.Errorf("--noise %g: give the velocity noise per component in m/s, zero or positive (e.g. 0.002), or leave --noise out to estimate it from the data", s.noise)
+		return usagef("--noise %g: give the velocity noise per component in m/s, zero or positive (e.g. 0.002), or leave --noise out to estimate it from the data", s.noise)
 	case s.samples < 0 || s.samples > 1000:
-		return fmt.Errorf("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", s.samples)
+		return usagef("--samples %d: give the number of Monte-Carlo replicas, 0 (no uncertainties) to 1000", s.samples)
 	case s.smooth < 2:
 		// The differentiator fits a quadratic to 2*smooth+1 frames and needs at least four.
-		return fmt.Errorf("--smooth %d: give the half-width of the dI/dt differentiator in frames, 2 or more (default %d): it fits a quadratic over 2*smooth+1 frames and needs at least four", s.smooth, circulation.BudgetSmooth)
+		return usagef("--smooth %d: give the half-width of the dI/dt differentiator in frames, 2 or more (default %d): it fits a quadratic over 2*smooth+1 frames and needs at least four", s.smooth, circulation.BudgetSmooth)
 	case !(s.threshold > 0 && s.threshold < 1):
-		return fmt.Errorf("--threshold %g: give the pulse detection threshold as a share of the peak exit velocity, strictly between 0 and 1 (default %g)", s.threshold, circulation.PulseThreshold)
+		return usagef("--threshold %g: give the pulse detection threshold as a share of the peak exit velocity, strictly between 0 and 1 (default %g)", s.threshold, circulation.PulseThreshold)
 	}
 	if s.pulse != "" {
 		parts := splitList(s.pulse)
@@ -253,12 +253,12 @@ func (s *jetSettings) checkValues(lipGiven bool) error {
 				return usagef("--pulse %q: cannot read %q as a time", s.pulse, p)
 			}
 			if !finite(v) {
-				return fmt.Errorf("--pulse %s: %q is not a finite time; give the pulse start and end in seconds, e.g. 0.1,1.9", s.pulse, p)
+				return usagef("--pulse %s: %q is not a finite time; give the pulse start and end in seconds, e.g. 0.1,1.9", s.pulse, p)
 			}
 			s.pulseT[n] = v
 		}
 		if !(s.pulseT[1] > s.pulseT[0]) {
-			return fmt.Errorf("--pulse %s: the end T1 must come after the start T0; give T0,T1 with T0 < T1, e.g. 0.1,1.9", s.pulse)
+			return usagef("--pulse %s: the end T1 must come after the start T0; give T0,T1 with T0 < T1, e.g. 0.1,1.9", s.pulse)
 		}
 	}
 	return s.exit.Validate()

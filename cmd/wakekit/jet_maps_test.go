@@ -62,7 +62,7 @@ func TestJetMaps(t *testing.T) {
 	index, bases := shortDemo(t, 6)
 	dir := t.TempDir()
 	jet := filepath.Join(dir, "jet")
-	jetArgs := []string{"jet", index, "--axisymmetric", "--axis", "0", "--exit", "0", "--diameter", "0.025", "--lip", "0.01375",
+	jetArgs := []string{"jet", index, "--axisymmetric", "--axis", "0", "--exit", "0", "--diameter", "0.025", "--lip", "0.01375", "--rho", "1000", "--nu", "1e-6",
 		"--rest", "0", "--pulse", "0.05,0.3", "--samples", "0", "-q", "--maps", "vorticity,lambda2,pressure", "--map-format", "csv,vtk,png", "--out", jet}
 	code, stdout, stderr := runCapture(jetArgs...)
 	if code != 0 {
@@ -170,7 +170,7 @@ func TestJetMapsSolid(t *testing.T) {
 	index, bases := shortDemo(t, 8)
 	dir := t.TempDir()
 	jet := filepath.Join(dir, "jet")
-	if code, _, stderr := runCapture("jet", index, "--axisymmetric", "--axis", "0", "--exit", "0.01", "--diameter", "0.025", "--lip", "0.02",
+	if code, _, stderr := runCapture("jet", index, "--axisymmetric", "--axis", "0", "--exit", "0.01", "--diameter", "0.025", "--lip", "0.02", "--rho", "1000", "--nu", "1e-6",
 		"--nozzle", "0.01,0.0125,0.02", "--rest", "0", "--pulse", "0.05,0.4", "--samples", "0", "-q", "--maps", "pressure", "--map-format", "csv",
 		"--out", jet); code != 0 {
 		t.Fatalf("jet exit %d: %s", code, stderr)

@@ -165,7 +165,7 @@ func TestJetBadInput(t *testing.T) {
 	out := filepath.Join(dir, "never")
 	code, _, stderr := runCapture("jet", index, "--axisymmetric", "--diameter", "0.025", "--pulse", "5,4",
 		"--no-pressure", "--samples", "0", "-q", "--out", out)
-	if code != 1 || !strings.Contains(stderr, "--pulse") {
+	if code != 2 || !strings.Contains(stderr, "--pulse") {
 		t.Errorf("reversed pulse: exit %d, %q", code, stderr)
 	}
 	if _, err := os.Stat(out); !os.IsNotExist(err) {
@@ -174,7 +174,8 @@ func TestJetBadInput(t *testing.T) {
 }
 
 // Flag values that parse but make no sense are refused before anything is read or written:
-// exit status 1, a message naming the flag and saying what to give, and no output folder.
+// exit status 2 (bad usage, as for every command), a message naming the flag and saying what
+// to give, and no output folder.
 func TestJetNonsenseNumbers(t *testing.T) {
 	base := t.TempDir()
 	jet := []string{"jet", filepath.Join(base, "frames.csv"), "--axisymmetric", "--diameter", "0.025"}
@@ -219,8 +220,8 @@ func TestJetNonsenseNumbers(t *testing.T) {
 	} {
 		out := filepath.Join(base, fmt.Sprintf("out%d", n))
 		code, stdout, stderr := runCapture(append(c.args, "--out", out)...)
-		if code != 1 || !strings.Contains(stderr, c.want) {
-			t.Errorf("%v: exit %d, stderr %q; want 1 and %q", c.args, code, stderr, c.want)
+		if code != 2 || !strings.Contains(stderr, c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want 2 and %q", c.args, code, stderr, c.want)
 		}
 		if stdout != "" {
 			t.Errorf("%v: printed %q", c.args, stdout)

@@ -49,7 +49,7 @@ func (sf *solidFlags) parse(axis float64) (*solidMask, error) {
 			return nil, err
 		}
 		if !(v[1] >= 0 && v[2] > v[1]) {
-			return nil, fmt.Errorf("--nozzle %s: give X,R_IN,R_OUT with 0 <= R_IN < R_OUT (the wall's inner and outer radius in m), e.g. 0,0.0125,0.01375", sf.nozzle)
+			return nil, usagef("--nozzle %s: give X,R_IN,R_OUT with 0 <= R_IN < R_OUT (the wall's inner and outer radius in m), e.g. 0,0.0125,0.01375", sf.nozzle)
 		}
 		n := pressure.Nozzle{X: v[0], RIn: v[1], ROut: v[2], Axis: axis}
 		return &solidMask{shape: n, nozzle: v, axis: axis,

@@ -15,6 +15,7 @@ import (
 	"github.com/wakekit/wakekit/internal/pipeline"
 	"github.com/wakekit/wakekit/internal/report"
 	"github.com/wakekit/wakekit/piv"
+	"github.com/wakekit/wakekit/pressure"
 	"github.com/wakekit/wakekit/vorticity"
 )
 
@@ -85,7 +86,7 @@ func setupVortices(fs *pflag.FlagSet) func(e *env, args []string) error {
 	gate := fs.Float64("gate", 0, "largest jump [m] between a track's predicted position and its next core (default 1.5 equivalent radii)")
 	maxGap := fs.Int("max-gap", 0, "frames a track may go unseen before it ends")
 	smooth := fs.Int("smooth", 5, "points of the least-squares line that smooths the convection velocity")
-	rho := fs.Float64("rho", 1000, "fluid density [kg/m^3] for ring impulse and energy")
+	rho := fs.Float64("rho", pressure.Water20.Rho, "fluid density [kg/m^3] for ring impulse and energy (default: water at 20 C)")
 	format := fs.String("format", "", "also draw maps: png")
 	return func(e *env, args []string) error {
 		if len(args) == 0 {
