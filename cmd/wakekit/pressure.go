@@ -165,8 +165,7 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 	restAt := fs.String("rest-at", "", "time [s] before the first frame at which the fluid was at rest")
 	exitX := fs.String("exit", "", "x of the nozzle exit plane [m] (with --nozzle-radius)")
 	radius := fs.Float64("nozzle-radius", 0, "nozzle inner radius (slot half-width) [m]")
-	nozzle := fs.String("nozzle", "", "X,R_IN,R_OUT [m]: mark the nozzle wall solid")
-	maskFile := fs.String("mask", "", "file on the frames' grid whose status column marks solid nodes (status \"solid\")")
+	solidFlags := addSolidFlags(fs)
 	format := fs.String("format", "csv", "output formats per frame, comma-separated: csv, vtk, png")
 	rf := addRunFlags(fs)
 	return func(e *env, args []string) error {
@@ -262,16 +261,9 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 				return usagef("--reference source needs --reference-edges (for instance right,top)")
 			}
 		}
-		if *nozzle != "" {
-			v, err := pressureFloats("--nozzle", *nozzle, 3)
-			if err != nil {
-				return err
-			}
-			if !(v[1] >= 0 && v[2] > v[1]) {
-				return usagef("--nozzle %q: need 0 <= R_IN < R_OUT", *nozzle)
-			}
-			fo.Solid = pressure.Nozzle{X: v[0], RIn: v[1], ROut: v[2], Axis: rdf.axis}
-			set.Nozzle = pressureJSONFloats(v)
+		solid, err := solidFlags.parse(rdf.axis)
+		if err != nil {
+			return err
 		}
 		for _, f := range splitList(strings.ToLower(*format)) {
 			if f != "csv" && f != "vtk" && f != "png" {
@@ -305,38 +297,15 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 				return fmt.Errorf("%s: %v", first.Name(), err)
 			}
 		}
-		if n, ok := fo.Solid.(pressure.Nozzle); ok {
-			if err := n.Check(first.Grid); err != nil {
-				return fmt.Errorf("%s: %v", first.Name(), err)
-			}
-		}
-		if *maskFile != "" {
-			if fo.Solid != nil {
-				return usagef("--mask and --nozzle exclude each other")
-			}
-			mf, err := piv.ReadFile(*maskFile, opt)
-			if err != nil {
+		if solid != nil {
+			if err := solid.load(first, opt); err != nil {
 				return err
 			}
-			if !mf.Grid.Same(first.Grid) {
-				return fmt.Errorf("%s: mask grid %v differs from the frames' grid %v", *maskFile, mf.Grid, first.Grid)
+			fo.Solid = solid.shape
+			if solid.nozzle != nil {
+				set.Nozzle = pressureJSONFloats(solid.nozzle)
 			}
-			m := pressure.MaskFromField(mf)
-			solid := 0
-			for _, v := range m.Solid {
-				if v {
-					solid++
-				}
-			}
-			if solid == 0 {
-				return fmt.Errorf("%s: no node has the status solid", *maskFile)
-			}
-			fo.Solid = m
-			digest, err := pipeline.FileDigest(*maskFile)
-			if err != nil {
-				return err
-			}
-			set.Mask = digest
+			set.Mask = solid.digest
 		}
 		popt, err := rf.pipelineOptions(e, "pressure")
 		if err != nil {
