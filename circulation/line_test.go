@@ -427,7 +427,10 @@ func TestFitLambOseenNoise(t *testing.T) {
 		if d := math.Hypot(fit.X-vx.X, fit.Y-vx.Y); d > 0.1*h {
 			t.Errorf("seed %d: centre (%.6g, %.6g) is %.3f spacings from (%.6g, %.6g)", seed, fit.X, fit.Y, d/h, vx.X, vx.Y)
 		}
-		if math.Abs(fit.U-vx.Uc) > 0.05*sigma*10 || math.Abs(fit.RMS/sigma-1) > 0.1 {
+		// The background is a mean over the ~1260 nodes within 2 r_c: its standard error is
+		// about σ/√1260 = 0.028σ (more with the strain terms), so 0.15σ is over 5 standard errors.
+		// The residual RMS estimates σ itself; its relative standard error is 1/√(2·2·1260) = 1%.
+		if math.Abs(fit.U-vx.Uc) > 0.15*sigma || math.Abs(fit.V-vx.Vc) > 0.15*sigma || math.Abs(fit.RMS/sigma-1) > 0.05 {
 			t.Errorf("seed %d: background (%.4g, %.4g), rms %.3g vs noise %.3g", seed, fit.U, fit.V, fit.RMS, sigma)
 		}
 	}
