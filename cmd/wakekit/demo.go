@@ -60,7 +60,7 @@ func setupDemo(fs *pflag.FlagSet) func(e *env, args []string) error {
 		}
 		s := &jetSettings{
 			exit: circulation.ExitConfig{X: demo.ExitX, Diameter: demo.Diameter, LipOuter: demo.Diameter/2 + demo.LipThickness, AxisY: demo.AxisY, Rho: demo.Rho, Nu: demo.Nu}, threshold: 0.05, noise: -1, samples: *samples, seed: 7,
-			smooth: 3, restTime: 0, label: demo.Name, params: map[string]string{"thruster": "TT-25", "tank": "B", "run": "07"},
+			smooth: circulation.BudgetSmooth, restTime: 0, label: demo.Name, params: map[string]string{"thruster": "TT-25", "tank": "B", "run": "07"},
 			title: "Starting-jet budget: " + demo.Name, description: demo.Description,
 		}
 		out, err := runJet(context.Background(), e, series, s, run, []string{index}, func() (string, error) { return dir, nil })
