@@ -332,13 +332,16 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 			tables = append(tables, pipeline.Table{Name: "exit_forces.csv", Header: pressureExitHeader(set.PlanarExit)})
 		}
 		b := pipeline.Batch{Dir: dir, Command: "pressure", Version: version, Settings: set, Tables: tables}
-		rep, err := pipeline.RunBatch(context.Background(), series, popt, b, pr.frame)
+		// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
+		ctx, stop := pipeline.SignalContext(context.Background())
+		defer stop()
+		rep, err := pipeline.RunBatch(ctx, series, popt, b, pr.frame)
 		if err != nil {
 			if fresh && rep.Computed == 0 && rep.Reused == 0 {
 				os.Remove(filepath.Join(dir, pipeline.ManifestName))
 				os.Remove(dir) // only if empty
 			}
-			return err
+			return batchError(err, rep)
 		}
 		man, err := pipeline.ReadManifest(dir)
 		if err != nil {
