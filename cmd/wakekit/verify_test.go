@@ -87,6 +87,10 @@ func TestVerifyUnderResolved(t *testing.T) {
 			t.Errorf("%s: peak bias %.2f %%, want low by tens of percent", c.scheme, 100*r.Bias)
 		}
 	}
+	// By Stokes the exact line integral around the square equals the exact mean over it; the
+	// stencil's two-panel trapezoid rule per edge misses that by its quadrature error, 1.53 % of
+	// the peak here (fine midpoint quadrature of the same edges gives 0.85112 against 0.83587),
+	// so the two agree within 2 % and no closer.
 	if avg := math.Pi * rc * rc * math.Pow(math.Erf(h/rc), 2) / (4 * h * h); math.Abs(local+1-avg) > 0.02 {
 		t.Errorf("local-circulation estimate %.4f of the peak, exact square mean %.4f", local+1, avg)
 	}
