@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -197,7 +196,7 @@ func setupCirculation(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if !popt.Shard.IsAll() || popt.Resume {
 			return usagef("circulation does not take --shard or --resume")
 		}
-		dir, undo, err := newOutDir(run, "circulation", args)
+		dir, created, err := run.newOutDir("circulation", args)
 		if err != nil {
 			return err
 		}
@@ -207,31 +206,10 @@ func setupCirculation(fs *pflag.FlagSet) func(e *env, args []string) error {
 			err = runContours(e, series, popt, st, dir, run.quiet)
 		}
 		if err != nil {
-			undo()
+			removeNew(dir, created)
 		}
 		return err
 	}
-}
-
-// newOutDir creates the output folder of a command that writes its tables once every frame
-// is done, and returns with it a function that undoes the creation: a folder the run made is
-// removed with everything in it, so that bad input leaves no output behind; a folder that
-// existed before is left as it was.
-func newOutDir(run *runFlags, name string, args []string) (string, func(), error) {
-	existed := false
-	if run.out != "" {
-		if _, err := os.Stat(run.out); err == nil {
-			existed = true
-		}
-	}
-	dir, err := run.outDir(name, args)
-	if err != nil {
-		return "", nil, err
-	}
-	if existed {
-		return dir, func() {}, nil
-	}
-	return dir, func() { os.RemoveAll(dir) }, nil
 }
 
 // circRow is the result of one contour in one frame.

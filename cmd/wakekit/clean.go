@@ -235,18 +235,11 @@ func (o *cleanFlags) run(e *env, fs *pflag.FlagSet, rd *readFlags, rf *runFlags,
 	if err != nil {
 		return err
 	}
-	dir, created, err := rf.newOutDir("clean", args)
-	if err != nil {
-		return err
-	}
 	names := cleanNames(s, "."+o.Format)
-	batch := pipeline.Batch{Dir: dir, Command: "clean", Version: version, Settings: o.cleanSettings,
+	batch := pipeline.Batch{Command: "clean", Version: version, Settings: o.cleanSettings,
 		Tables: []pipeline.Table{{Name: cleanTable,
 			Header: "frame,time [s],file,checked,rejected_range,rejected_median,rejected_std,filled,missing,solid"}}}
-	// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
-	ctx, stop := pipeline.SignalContext(context.Background())
-	defer stop()
-	rep, err := pipeline.RunBatch(ctx, s, popt, batch,
+	rep, dir, err := rf.runBatch("clean", args, s, popt, batch,
 		func(ctx context.Context, k int, frames pipeline.Frames, out *pipeline.Output) error {
 			f, err := frames.Frame(k)
 			if err != nil {
@@ -274,12 +267,7 @@ func (o *cleanFlags) run(e *env, fs *pflag.FlagSet, rd *readFlags, rf *runFlags,
 			return out.SetRecord(cleanRecord{Time: s.Time(k), File: names[k], Report: r})
 		})
 	if err != nil {
-		if rep.Computed == 0 && rep.Reused == 0 {
-			// Nothing finished: a folder made by this run goes again, so bad input leaves no
-			// output behind.
-			removeNew(dir, created)
-		}
-		return batchError(err, rep)
+		return err
 	}
 	m, err := pipeline.ReadManifest(dir)
 	if err != nil {

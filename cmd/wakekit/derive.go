@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"sync"
@@ -199,21 +198,6 @@ func setupDerive(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if err != nil {
 			return err
 		}
-		// A folder this run creates is removed again if the run fails before any frame is done,
-		// so bad input leaves no output behind.
-		fresh := rf.out != "" && !rf.resume
-		if fresh {
-			if _, err := os.Stat(rf.out); err == nil {
-				fresh = false
-			}
-		}
-		dir, err := rf.outDir("derive", args)
-		if err != nil {
-			return err
-		}
-		if rf.out == "" && !rf.resume && rf.shard == "" {
-			fresh = true // outDir made a new wakekit-derive folder
-		}
 		set := deriveSettings{Scheme: sc.String(), Formats: formatList, GammaRadius: *gammaRadius,
 			Sigma: piv.JSONFloat(*sigma), Stencils: *stencils, Arrows: *arrows, Width: w, Height: h, Read: opt}
 		for _, q := range qs {
@@ -221,18 +205,11 @@ func setupDerive(fs *pflag.FlagSet) func(e *env, args []string) error {
 		}
 		d := &deriver{set: set, scheme: sc, qs: qs, names: frameBases(series),
 			untimed: series.Len() == 1 && series.Time(0) == 0 && !(opt.DT > 0)}
-		b := pipeline.Batch{Dir: dir, Command: "derive", Version: version, Settings: set,
+		b := pipeline.Batch{Command: "derive", Version: version, Settings: set,
 			Tables: []pipeline.Table{{Name: "derive.csv", Header: d.tableHeader()}}}
-		// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
-		ctx, stop := pipeline.SignalContext(context.Background())
-		defer stop()
-		rep, err := pipeline.RunBatch(ctx, series, popt, b, d.frame)
+		rep, dir, err := rf.runBatch("derive", args, series, popt, b, d.frame)
 		if err != nil {
-			if fresh && rep.Computed == 0 && rep.Reused == 0 {
-				os.Remove(filepath.Join(dir, pipeline.ManifestName))
-				os.Remove(dir) // only if empty
-			}
-			return batchError(err, rep)
+			return err
 		}
 		man, err := pipeline.ReadManifest(dir)
 		if err != nil {

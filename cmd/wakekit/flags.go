@@ -199,6 +199,30 @@ func removeNew(dir string, created bool) {
 	}
 }
 
+// runBatch creates the command's output folder (newOutDir), runs the batch b in it through the
+// streaming engine, stopping after the frames in progress on SIGINT or SIGTERM, and returns the
+// folder with the engine's report. A run that fails before any frame is finished removes a
+// folder it created, so bad input leaves no output behind; a stopped run keeps its finished
+// frames and says that --resume completes it (batchError).
+func (r *runFlags) runBatch(name string, args []string, s *piv.Series, opt pipeline.Options, b pipeline.Batch,
+	proc func(ctx context.Context, k int, frames pipeline.Frames, out *pipeline.Output) error) (pipeline.Report, string, error) {
+	dir, created, err := r.newOutDir(name, args)
+	if err != nil {
+		return pipeline.Report{}, "", err
+	}
+	b.Dir = dir
+	ctx, stop := pipeline.SignalContext(context.Background())
+	defer stop()
+	rep, err := pipeline.RunBatch(ctx, s, opt, b, proc)
+	if err != nil {
+		if rep.Computed == 0 && rep.Reused == 0 {
+			removeNew(dir, created)
+		}
+		return rep, dir, batchError(err, rep)
+	}
+	return rep, dir, nil
+}
+
 func (r *runFlags) outDirName(name string, inputs []string) string {
 	if r.out != "" {
 		return r.out

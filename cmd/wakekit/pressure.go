@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -312,36 +311,16 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 			return err
 		}
 		popt.Halo = fo.Accel.Halo()
-		fresh := rf.out != "" && !rf.resume
-		if fresh {
-			if _, err := os.Stat(rf.out); err == nil {
-				fresh = false
-			}
-		}
-		dir, err := rf.outDir("pressure", args)
-		if err != nil {
-			return err
-		}
-		if rf.out == "" && !rf.resume && rf.shard == "" {
-			fresh = true
-		}
 		pr := &presser{set: set, opt: fo, names: frameBases(series)}
 		tables := []pipeline.Table{{Name: "pressure.csv",
 			Header: "frame,time [s],solver,iterations,residual,p_min [Pa],p_max [Pa]"}}
 		if fo.Exit != nil {
 			tables = append(tables, pipeline.Table{Name: "exit_forces.csv", Header: pressureExitHeader(set.PlanarExit)})
 		}
-		b := pipeline.Batch{Dir: dir, Command: "pressure", Version: version, Settings: set, Tables: tables}
-		// SIGINT or SIGTERM stops after the frames in progress; --resume finishes the run.
-		ctx, stop := pipeline.SignalContext(context.Background())
-		defer stop()
-		rep, err := pipeline.RunBatch(ctx, series, popt, b, pr.frame)
+		b := pipeline.Batch{Command: "pressure", Version: version, Settings: set, Tables: tables}
+		rep, dir, err := rf.runBatch("pressure", args, series, popt, b, pr.frame)
 		if err != nil {
-			if fresh && rep.Computed == 0 && rep.Reused == 0 {
-				os.Remove(filepath.Join(dir, pipeline.ManifestName))
-				os.Remove(dir) // only if empty
-			}
-			return batchError(err, rep)
+			return err
 		}
 		man, err := pipeline.ReadManifest(dir)
 		if err != nil {

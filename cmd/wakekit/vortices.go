@@ -147,12 +147,12 @@ func setupVortices(fs *pflag.FlagSet) func(e *env, args []string) error {
 		if !popt.Shard.IsAll() || popt.Resume {
 			return usagef("vortices tracks through the whole series and does not take --shard or --resume")
 		}
-		dir, undo, err := newOutDir(run, "vortices", args)
+		dir, created, err := run.newOutDir("vortices", args)
 		if err != nil {
 			return err
 		}
 		if err := runVortices(e, series, popt, st, dir); err != nil {
-			undo()
+			removeNew(dir, created)
 			return err
 		}
 		return nil
