@@ -93,18 +93,8 @@ func Deriv(g piv.Grid, s []float64, scheme Scheme, dx, dy []float64, st []Stenci
 			st[k] = MakeStencil(ka, kb)
 		}
 	}
-	for j := 0; j < ny; j++ {
-		if j < h || j >= ny-h || nx <= 2*h {
-			for i := 0; i < nx; i++ {
-				slow(i, j)
-			}
-			continue
-		}
-		for i := 0; i < h; i++ {
-			slow(i, j)
-		}
-		row := j * nx
-		lo, hi := row+h, row+nx-h
+	edge := func(_, i, j int) bool { slow(i, j); return true }
+	sweepRows(nx, ny, h, edge, func(lo, hi, row, j int) bool {
 		switch scheme {
 		case Richardson:
 			cx, cy := hx/12, hy/12
@@ -164,10 +154,8 @@ func Deriv(g piv.Grid, s []float64, scheme Scheme, dx, dy []float64, st []Stenci
 				}
 			}
 		}
-		for i := nx - h; i < nx; i++ {
-			slow(i, j)
-		}
-	}
+		return true
+	})
 }
 
 // along returns the derivative of s along one grid line at node k, which sits at position i of

@@ -73,22 +73,7 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 		sten[k] = MakeStencil(kx, ky)
 		return true
 	}
-	for j := 0; j < ny; j++ {
-		row := j * nx
-		if j < h || j >= ny-h || nx <= 2*h {
-			for i := 0; i < nx; i++ {
-				if !slow(row+i, i, j) {
-					return false
-				}
-			}
-			continue
-		}
-		for i := 0; i < h; i++ {
-			if !slow(row+i, i, j) {
-				return false
-			}
-		}
-		lo, hi := row+h, row+nx-h
+	return sweepRows(nx, ny, h, slow, func(lo, hi, row, j int) bool {
 		// A NaN anywhere in the stencils, or an unusable status at the centre, sends the node to
 		// the fallback path (which also checks the centre's values; see consistentAround).
 		switch scheme {
@@ -161,13 +146,8 @@ func (g *Gradient) pass(u, v []float64, stat []piv.Status) bool {
 				ux[p], uy[p], vx[p], vy[p], ss[p] = a, b, c, d, fullStencil
 			}
 		}
-		for i := nx - h; i < nx; i++ {
-			if !slow(row+i, i, j) {
-				return false
-			}
-		}
-	}
-	return true
+		return true
+	})
 }
 
 // Vorticity returns dV/dx - dU/dy at every node (w_z, or w_theta above the axis of an

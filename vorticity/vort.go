@@ -50,22 +50,7 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 		dst[k] = a - b
 		return true
 	}
-	for j := 0; j < ny; j++ {
-		row := j * nx
-		if j < h || j >= ny-h || nx <= 2*h {
-			for i := 0; i < nx; i++ {
-				if !slow(row+i, i, j) {
-					return false
-				}
-			}
-			continue
-		}
-		for i := 0; i < h; i++ {
-			if !slow(row+i, i, j) {
-				return false
-			}
-		}
-		lo, hi := row+h, row+nx-h
+	return sweepRows(nx, ny, h, slow, func(lo, hi, row, j int) bool {
 		// A NaN anywhere in the stencils, or an unusable status at the centre, sends the node to
 		// the fallback path (which also checks the centre's values; see consistentAround).
 		switch scheme {
@@ -130,13 +115,8 @@ func vorticityPass(dst []float64, g piv.Grid, u, v []float64, stat []piv.Status,
 				}
 			}
 		}
-		for i := nx - h; i < nx; i++ {
-			if !slow(row+i, i, j) {
-				return false
-			}
-		}
-	}
-	return true
+		return true
+	})
 }
 
 // rowUsable reports whether every status in sc is usable (Measured or Replaced: kind bit 1
