@@ -119,7 +119,7 @@ func writeJetMaps(ctx context.Context, e *env, series *piv.Series, s *jetSetting
 		}
 		pr = &presser{set: ps, opt: o, names: pn}
 		set.Pressure = &ps
-		tables = append(tables, pipeline.Table{Name: "pressure.csv", Header: "frame,time [s],solver,iterations,residual,p_min [Pa],p_max [Pa]"})
+		tables = append(tables, pipeline.Table{Name: "pressure.csv", Header: pressureTableHeader})
 		if o.Exit != nil {
 			tables = append(tables, pipeline.Table{Name: "exit_forces.csv", Header: pressureExitHeader(ps.PlanarExit)})
 		}

@@ -312,8 +312,7 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 		}
 		popt.Halo = fo.Accel.Halo()
 		pr := &presser{set: set, opt: fo, names: frameBases(series)}
-		tables := []pipeline.Table{{Name: "pressure.csv",
-			Header: "frame,time [s],solver,iterations,residual,p_min [Pa],p_max [Pa]"}}
+		tables := []pipeline.Table{{Name: "pressure.csv", Header: pressureTableHeader}}
 		if fo.Exit != nil {
 			tables = append(tables, pipeline.Table{Name: "exit_forces.csv", Header: pressureExitHeader(set.PlanarExit)})
 		}
@@ -337,6 +336,10 @@ func setupPressure(fs *pflag.FlagSet) func(e *env, args []string) error {
 
 func pressureFinite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
+// pressureTableHeader heads pressure.csv, one row a frame.
+const pressureTableHeader = "frame,time [s],solver,iterations,residual,p_min [Pa],p_max [Pa]"
+
+// pressureExitHeader heads exit_forces.csv; planar exits give forces per unit depth.
 func pressureExitHeader(planar bool) string {
 	if planar {
 		return "time [s],momentum flux [N/m],pressure force [N/m],sum [N/m],flux [m^2/s]"
