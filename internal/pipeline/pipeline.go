@@ -166,6 +166,31 @@ func (c *frameCache) get(k int) (*piv.Field, error) {
 	return it.f, it.err
 }
 
+// prefetch starts loading, each in a goroutine of its own counted by wg, the frames of job k's
+// window other than k itself that are not in the cache yet. Without it, jobs that ask for
+// their window's frames in order queue behind one another's loads (job k+1 waits for frame
+// k+1, which job k is reading, before it asks for k+2), and reading the files, often the
+// larger part of the work, runs on one core whatever the number of workers.
+func (c *frameCache) prefetch(k int, wg *sync.WaitGroup) {
+	lo, hi := max(k-c.halo, 0), min(k+c.halo, c.s.Len()-1)
+	for j := lo; j <= hi; j++ {
+		if j == k {
+			continue
+		}
+		c.mu.Lock()
+		_, ok := c.items[j]
+		c.mu.Unlock()
+		if ok {
+			continue
+		}
+		wg.Add(1)
+		go func(j int) {
+			defer wg.Done()
+			c.get(j) // an error stays in the cache for the job that asks for the frame
+		}(j)
+	}
+}
+
 // evictLocked drops the least recently used frame that has finished loading and lies in no
 // running job's window. When every frame is in use the cache grows for a moment; the running
 // jobs' windows bound it (workers x (2*halo+1) frames).
@@ -286,6 +311,9 @@ func run[R any](ctx context.Context, s *piv.Series, order []int, opt Options,
 				defer wg.Done()
 				defer func() { <-sem }()
 				defer cache.end(k)
+				if halo > 0 {
+					cache.prefetch(k, &wg)
+				}
 				r, err := proc(workCtx, k, window{c: cache, k: k, halo: halo, strict: strict})
 				ch <- result{r, err}
 			}(k)

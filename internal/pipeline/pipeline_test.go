@@ -287,3 +287,50 @@ func TestRunDrawsProgress(t *testing.T) {
 		t.Errorf("progress output %q", out)
 	}
 }
+
+// Jobs that read their window in order must not queue behind one another's loads: with slow
+// loads (a large CSV file each) and a halo, two workers keep two loads going at once. Without
+// the prefetch, job k+1 waits for frame k+1, which job k is loading, before it asks for k+2,
+// and at most one load runs at a time.
+func TestRunHaloLoadsOverlap(t *testing.T) {
+	const n, halo, workers = 24, 1, 2
+	var running, most atomic.Int64
+	g := piv.Grid{NX: 4, NY: 4, DX: 1e-3, DY: 1e-3}
+	names := make([]string, n)
+	times := make([]float64, n)
+	for k := range names {
+		names[k] = fmt.Sprintf("slow_%04d", k)
+		times[k] = 0.01 * float64(k)
+	}
+	s, err := piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
+		now := running.Add(1)
+		for {
+			m := most.Load()
+			if now <= m || most.CompareAndSwap(m, now) {
+				break
+			}
+		}
+		time.Sleep(20 * time.Millisecond)
+		running.Add(-1)
+		return piv.NewField(g), nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = Run(context.Background(), s, Options{Workers: workers, Halo: halo},
+		func(ctx context.Context, k int, fr Frames) (int, error) {
+			for j := max(0, k-halo); j <= min(n-1, k+halo); j++ {
+				if _, err := fr.Frame(j); err != nil {
+					return 0, err
+				}
+			}
+			return k, nil
+		},
+		func(k int, r int) error { return nil })
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m := most.Load(); m < 2 {
+		t.Errorf("at most %d frame load ran at a time on %d workers with halo %d; reading is serialised", m, workers, halo)
+	}
+}
