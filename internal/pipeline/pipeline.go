@@ -173,16 +173,15 @@ func (c *frameCache) get(k int) (*piv.Field, error) {
 // larger part of the work, runs on one core whatever the number of workers.
 func (c *frameCache) prefetch(k int, wg *sync.WaitGroup) {
 	lo, hi := max(k-c.halo, 0), min(k+c.halo, c.s.Len()-1)
+	var missing []int
+	c.mu.Lock()
 	for j := lo; j <= hi; j++ {
-		if j == k {
-			continue
+		if _, ok := c.items[j]; !ok && j != k {
+			missing = append(missing, j)
 		}
-		c.mu.Lock()
-		_, ok := c.items[j]
-		c.mu.Unlock()
-		if ok {
-			continue
-		}
+	}
+	c.mu.Unlock()
+	for _, j := range missing {
 		wg.Add(1)
 		go func(j int) {
 			defer wg.Done()

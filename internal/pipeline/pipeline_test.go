@@ -18,13 +18,7 @@ import (
 func memSeries(t testing.TB, n, nx, ny int, loads *atomic.Int64) *piv.Series {
 	t.Helper()
 	g := piv.Grid{NX: nx, NY: ny, DX: 1e-3, DY: 1e-3}
-	names := make([]string, n)
-	times := make([]float64, n)
-	for k := range names {
-		names[k] = fmt.Sprintf("mem_%04d", k)
-		times[k] = 0.01 * float64(k)
-	}
-	s, err := piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
+	return loaderSeries(t, n, func(k int) (*piv.Field, error) {
 		if loads != nil {
 			loads.Add(1)
 		}
@@ -34,6 +28,18 @@ func memSeries(t testing.TB, n, nx, ny int, loads *atomic.Int64) *piv.Series {
 		}
 		return f, nil
 	})
+}
+
+// loaderSeries is a series of n frames 0.01 s apart, named mem_NNNN, whose frames load reads.
+func loaderSeries(t testing.TB, n int, load func(k int) (*piv.Field, error)) *piv.Series {
+	t.Helper()
+	names := make([]string, n)
+	times := make([]float64, n)
+	for k := range names {
+		names[k] = fmt.Sprintf("mem_%04d", k)
+		times[k] = 0.01 * float64(k)
+	}
+	s, err := piv.NewSeries(names, times, load)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -296,13 +302,7 @@ func TestRunHaloLoadsOverlap(t *testing.T) {
 	const n, halo, workers = 24, 1, 2
 	var running, most atomic.Int64
 	g := piv.Grid{NX: 4, NY: 4, DX: 1e-3, DY: 1e-3}
-	names := make([]string, n)
-	times := make([]float64, n)
-	for k := range names {
-		names[k] = fmt.Sprintf("slow_%04d", k)
-		times[k] = 0.01 * float64(k)
-	}
-	s, err := piv.NewSeries(names, times, func(k int) (*piv.Field, error) {
+	s := loaderSeries(t, n, func(k int) (*piv.Field, error) {
 		now := running.Add(1)
 		for {
 			m := most.Load()
@@ -314,10 +314,7 @@ func TestRunHaloLoadsOverlap(t *testing.T) {
 		running.Add(-1)
 		return piv.NewField(g), nil
 	})
-	if err != nil {
-		t.Fatal(err)
-	}
-	_, err = Run(context.Background(), s, Options{Workers: workers, Halo: halo},
+	_, err := Run(context.Background(), s, Options{Workers: workers, Halo: halo},
 		func(ctx context.Context, k int, fr Frames) (int, error) {
 			for j := max(0, k-halo); j <= min(n-1, k+halo); j++ {
 				if _, err := fr.Frame(j); err != nil {
